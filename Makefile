@@ -1,0 +1,37 @@
+# Two entry points for a fresh machine: `make demo` and `make test`.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+HOST ?= 127.0.0.1:8000
+
+.PHONY: demo test install install-test bench clean
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+$(VENV)/.installed: pyproject.toml | $(BIN)/python
+	$(BIN)/pip install --quiet -e .
+	touch $@
+
+$(VENV)/.installed-test: pyproject.toml | $(BIN)/python
+	$(BIN)/pip install --quiet -e '.[test]'
+	touch $@ $(VENV)/.installed
+
+install: $(VENV)/.installed
+
+install-test: $(VENV)/.installed-test
+
+demo: install
+	$(BIN)/python manage.py migrate --no-input
+	$(BIN)/python manage.py seed_campus
+	$(BIN)/python manage.py runserver $(HOST)
+
+test: install-test
+	$(BIN)/python -m pytest $(PYTEST_ARGS)
+
+bench: install-test
+	$(BIN)/python bench/limits.py
+
+clean:
+	rm -rf $(VENV) db.sqlite3

@@ -1,0 +1,122 @@
+"""Reading physical quantities typed by people ("5 mW", "1.064 um", 0.25).
+
+pint is used only here, at the edge; the engine works on SI floats. There is one unit
+registry for the whole process.
+"""
+from __future__ import annotations
+
+import math
+import re
+from functools import lru_cache
+
+import pint
+
+from hazards.errors import InputError
+
+ureg = pint.UnitRegistry()
+pint.set_application_registry(ureg)
+
+_NUMBER_THEN_UNIT = re.compile(
+    r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$"
+)
+
+
+@lru_cache(maxsize=256)
+def _unit(text: str) -> pint.Unit:
+    # Micro signs typed in several ways all mean micro.
+    return ureg.Unit(text.replace("µ", "u").replace("μ", "u"))
+
+
+def parse_quantity(
+    value: object,
+    *,
+    field: str,
+    unit: str,
+    minimum: float | None = None,
+    maximum: float | None = None,
+    inclusive_minimum: bool = True,
+) -> float:
+    """Return ``value`` as a float in ``unit`` (an SI unit such as "m", "s", "W").
+
+    ``value`` is a number, taken to be in ``unit`` already, or a string with its own
+    unit ("532 nm", "10ns", "1.5 mrad"); a bare number in a string is taken to be in
+    ``unit``. Raises InputError naming ``field`` for an unreadable value, a unit of the
+    wrong dimension, a non-finite value or one outside [minimum, maximum].
+    """
+    if isinstance(value, bool):
+        raise InputError(field, f"expected a number in {unit} or a value with units, got {value!r}")
+    if isinstance(value, (int, float)):
+        magnitude = float(value)
+    elif isinstance(value, str):
+        magnitude = _from_text(value, field=field, unit=unit)
+    else:
+        raise InputError(field, f"expected a number in {unit} or a value with units, got {value!r}")
+    if not math.isfinite(magnitude):
+        raise InputError(field, f"must be a finite number, got {value!r}")
+    _check_range(magnitude, value, field=field, unit=unit, minimum=minimum, maximum=maximum,
+                 inclusive_minimum=inclusive_minimum)
+    return magnitude
+
+
+def _from_text(text: str, *, field: str, unit: str) -> float:
+    match = _NUMBER_THEN_UNIT.match(text)
+    if match is None:
+        raise InputError(field, f"cannot read {text!r} as a number with a unit (for example '5 {unit}')")
+    number, unit_text = float(match.group(1)), match.group(2)
+    if not unit_text:
+        return number
+    try:
+        given = _unit(unit_text)
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError, AttributeError,
+            TypeError, AssertionError):
+        raise InputError(field, f"unknown unit {unit_text!r} in {text!r}") from None
+    try:
+        return float(ureg.Quantity(number, given).to(unit).magnitude)
+    except pint.errors.DimensionalityError:
+        raise InputError(
+            field, f"{text!r} is not a {_dimension_name(unit)} (expected a value in {unit} or compatible units)"
+        ) from None
+
+
+def _dimension_name(unit: str) -> str:
+    names = {"m": "length", "s": "duration", "W": "power", "J": "energy", "rad": "angle",
+             "Hz": "frequency", "J/m**2": "radiant exposure", "W/m**2": "irradiance"}
+    return names.get(unit, f"quantity in {unit}")
+
+
+def _check_range(
+    magnitude: float,
+    original: object,
+    *,
+    field: str,
+    unit: str,
+    minimum: float | None,
+    maximum: float | None,
+    inclusive_minimum: bool,
+) -> None:
+    too_low = minimum is not None and (magnitude < minimum if inclusive_minimum else magnitude <= minimum)
+    too_high = maximum is not None and magnitude > maximum
+    if not (too_low or too_high):
+        return
+    if minimum is not None and maximum is not None:
+        allowed = f"from {format_si(minimum, unit)} to {format_si(maximum, unit)}"
+    elif minimum is not None:
+        allowed = f"{'at least' if inclusive_minimum else 'greater than'} {format_si(minimum, unit)}"
+    else:
+        allowed = f"at most {format_si(maximum, unit)}"  # type: ignore[arg-type]
+    raise InputError(field, f"{original!r} is out of range: allowed {allowed}")
+
+
+_PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""), (1e3, "k"),
+             (1e6, "M"), (1e9, "G"))
+
+
+def format_si(value: float, unit: str, digits: int = 4) -> str:
+    """Format an SI value with a metric prefix: format_si(5.32e-7, "m") -> "532 nm"."""
+    if value == 0 or not math.isfinite(value) or unit not in {"m", "s", "W", "J", "rad", "Hz"}:
+        return f"{value:.{digits}g} {unit}"
+    scale, prefix = _PREFIXES[0]
+    for candidate_scale, candidate_prefix in _PREFIXES:
+        if abs(value) >= candidate_scale * 0.9999999:
+            scale, prefix = candidate_scale, candidate_prefix
+    return f"{value / scale:.{digits}g} {prefix}{unit}"
