@@ -164,5 +164,6 @@ def test_the_aperture_follows_the_governing_rule() -> None:
     train = pulse_train_limit(10.6e-6, 100.0, 1e-6, 100.0, limits="eu2006")
     assert str(train.governing) == "average_power"
     assert float(train.aperture_m) == pytest.approx(3.5e-3)
+    # ICNIRP 2013 limiting apertures, 400-1400 nm: 7 mm whatever the duration
     single = pulse_train_limit(1064e-9, 10.0, 10e-9, 10.0)
     assert float(single.aperture_m) == pytest.approx(7e-3)
