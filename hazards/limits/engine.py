@@ -34,6 +34,7 @@ class Variables(Mapping[str, FloatArray]):
     def __init__(self, limit_set: LimitSet, inputs: dict[str, FloatArray]) -> None:
         self.limit_set = limit_set
         self.size = next(iter(inputs.values())).shape[0]
+        self._inputs = dict(inputs)
         self._values: dict[str, FloatArray] = dict(inputs)
         self.piece_index: dict[str, IndexArray] = {}
         # Many rows share a wavelength band: the points inside each band are found once.
@@ -50,6 +51,10 @@ class Variables(Mapping[str, FloatArray]):
 
     def __len__(self) -> int:
         return len(self._values)
+
+    def subset(self, indices: IndexArray) -> Variables:
+        """The same inputs at some of the points; factors are computed afresh, for those points only."""
+        return Variables(self.limit_set, {name: values[indices] for name, values in self._inputs.items()})
 
     def computed_factors(self) -> list[str]:
         """Factor names in the order they were first needed (dependencies come first)."""
@@ -148,7 +153,11 @@ def evaluate_rows(
     pulse_reduction_only: bool = False,
     keep_candidates: bool = False,
 ) -> Evaluation:
-    """Evaluate 1-d arrays of points; ``row_index`` is -1 where no row holds."""
+    """Evaluate 1-d arrays of points; ``row_index`` is -1 where no row holds.
+
+    Rows are taken band by band: the points inside a row's first condition (its wavelength band)
+    get their own Variables, so that a factor such as C_E is computed only where a row needs it.
+    """
     variables = Variables(limit_set, {"wavelength_nm": wavelength_nm, "t": duration_s, "alpha_mrad": alpha_mrad})
     rows = tuple(row for row in limit_set.rows if tissue in row.tissues
                  and (row.pulse_reduction or not pulse_reduction_only))
@@ -156,13 +165,23 @@ def evaluate_rows(
     lowest = np.full(size, np.inf)
     row_index = np.full(size, -1, dtype=np.intp)
     candidates: list[Candidate] = []
+    bands: dict[tuple[str, str], tuple[IndexArray, Variables]] = {}
     for number, row in enumerate(rows):
-        chosen = select(row.conditions, variables, None)
-        if chosen.size == 0:
+        band, others = row.conditions[0], row.conditions[1:]
+        key = (band.variable, band.interval.text)
+        if key not in bands:
+            inside = select((band,), variables, None)
+            bands[key] = (inside, variables.subset(inside))
+        inside, local = bands[key]
+        if inside.size == 0:
             continue
-        value = row.expression.evaluate(_subset(variables, row.expression.names, chosen), (chosen.size,))
+        chosen_here = select(others, local, None)
+        if chosen_here.size == 0:
+            continue
+        value = row.expression.evaluate(_subset(local, row.expression.names, chosen_here), (chosen_here.size,))
         if row.quantity == "E":
-            value = value * duration_s[chosen]
+            value = value * local["t"][chosen_here]
+        chosen = inside[chosen_here]
         lower = value < lowest[chosen]
         lowest[chosen[lower]] = value[lower]
         row_index[chosen[lower]] = number

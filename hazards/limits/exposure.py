@@ -237,9 +237,9 @@ def _field_of_view_mrad(evaluation: Evaluation, found: NDArray[np.bool_]) -> Flo
     for number, row in enumerate(evaluation.rows):
         if row.field_of_view is None:
             continue
-        governed = found & (evaluation.row_index == number)
-        if governed.any():
-            result[governed] = evaluation.variables[row.field_of_view][governed]
+        governed = np.flatnonzero(found & (evaluation.row_index == number))
+        if governed.size:
+            result[governed] = evaluation.variables.subset(governed)[row.field_of_view]
     return result
 
 
@@ -266,6 +266,9 @@ def _working(limit_set: LimitSet, tissue: str, evaluation: Evaluation, wavelengt
                 if duration_basis.startswith("default of common practice") else "input")
     working.add("apparent source size alpha", "given", float(source_size_rad) * 1e3, "mrad", source="input")
     variables = evaluation.variables
+    for candidate in evaluation.candidates:
+        for name in sorted(candidate.row.names & set(limit_set.factors)):
+            variables[name]  # computes the factor (and the factors it needs) at this point
     for name in variables.computed_factors():
         value = float(variables[name][0])
         piece_number = int(variables.piece_index[name][0])

@@ -238,8 +238,11 @@ def _row(raw: dict[str, Any]) -> Row:
     tissues = tuple(raw["tissues"])
     if not set(tissues) <= set(TISSUES):
         raise LimitSetError(f"{where}: tissues must be among {TISSUES}, got {tissues}")
+    conditions = _conditions(raw["when"], where)
+    if not conditions or conditions[0].variable != "wavelength_nm":
+        raise LimitSetError(f"{where}: 'when' must start with the wavelength_nm band")
     return Row(id=str(raw["id"]), tissues=tissues, mechanism=str(raw["mechanism"]),
-               conditions=_conditions(raw["when"], where), quantity=quantity,
+               conditions=conditions, quantity=quantity,
                expression=_formula(raw["expression"], where),
                pulse_reduction=bool(raw.get("pulse_reduction", False)),
                field_of_view=raw.get("field_of_view"), citation=str(raw["citation"]),

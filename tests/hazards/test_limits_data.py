@@ -110,7 +110,8 @@ def test_a_new_edition_is_only_data() -> None:
     (("rows", 0, "expression"), "5 * t^0.5 * C_Y", "unknown names ['C_Y']"),
     (("rows", 0, "quantity"), "L", "quantity must be 'H' or 'E'"),
     (("rows", 0, "tissues"), ["retina"], "tissues must be among"),
-    (("rows", 0, "when"), {"t": "[1, T_unknown]"}, "unknown names ['T_unknown']"),
+    (("rows", 0, "when"), {"wavelength_nm": "[180, 1e6]", "t": "[1, T_unknown]"}, "unknown names ['T_unknown']"),
+    (("rows", 0, "when"), {"t": "[1, 10]"}, "must start with the wavelength_nm band"),
     (("factors", "C_X", 0, "status"), "guessed", "status 'guessed'"),
 ])
 def test_a_malformed_file_is_refused_with_the_place_named(path: tuple[Any, ...], value: object, message: str) -> None:
