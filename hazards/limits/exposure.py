@@ -4,7 +4,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterator
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, TypedDict
 
 import numpy as np
 from numpy.typing import NDArray
@@ -56,6 +56,16 @@ def _scalar_wavelength_nm(wavelength_m: float) -> float:
     return value * 1e9
 
 
+class CandidateRow(TypedDict):
+    """One row that holds at a point, with its value there: the dual limits side by side."""
+
+    row: str
+    mechanism: str
+    radiant_exposure_J_m2: float
+    citation: str
+    status: str
+
+
 @dataclass(frozen=True)
 class ExposureLimit:
     """Exposure limits at each point (numpy arrays; 0-d for scalar input).
@@ -80,12 +90,14 @@ class ExposureLimit:
     duration_basis: str
     notes: tuple[str, ...]
     working: Working | None
+    candidate_rows: tuple[CandidateRow, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON object of ``python -m hazards limit --json`` for a single point."""
         if self.radiant_exposure_J_m2.size != 1:
             raise ValueError("to_dict() describes one point; use records() for arrays")
         record = next(self.records())
+        record["candidate_rows"] = list(self.candidate_rows)
         record["notes"] = list(self.notes)
         record["working"] = self.working.to_json() if self.working is not None else []
         return record
@@ -104,6 +116,7 @@ class ExposureLimit:
                 "tissue": self.tissue,
                 "limits": self.limits,
                 "limits_title": limit_set.title,
+                "limits_citation": limit_set.citation,
                 "radiant_exposure_J_m2": _item(self.radiant_exposure_J_m2, index),
                 "irradiance_W_m2": _item(self.irradiance_W_m2, index),
                 "aperture_m": _item(self.aperture_m, index),
@@ -228,7 +241,16 @@ def evaluate_limit(limit_set: LimitSet, tissue: str, wavelength_m: FloatArray, d
         governing=mechanism.reshape(shape), row_index=evaluation.row_index.reshape(shape), rows=evaluation.rows,
         limits=limit_set.name, tissue=tissue, duration_basis=duration_basis,
         notes=tuple(notes or limit_set.notes), working=working,
+        candidate_rows=tuple(_candidate_rows(evaluation)) if scalar else (),
     )
+
+
+def _candidate_rows(evaluation: Evaluation) -> list[CandidateRow]:
+    return [CandidateRow(row=candidate.row.id, mechanism=candidate.row.mechanism,
+                         radiant_exposure_J_m2=float(candidate.radiant_exposure_J_m2[0]),
+                         citation=candidate.row.citation,
+                         status=candidate.row.status + (f": {candidate.row.note}" if candidate.row.note else ""))
+            for candidate in evaluation.candidates]
 
 
 def _field_of_view_mrad(evaluation: Evaluation, found: NDArray[np.bool_]) -> FloatArray:

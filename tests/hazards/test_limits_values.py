@@ -339,3 +339,13 @@ def test_the_working_cites_every_step_and_reports_the_duration_basis() -> None:
     governing = next(step for step in steps if step["what"].startswith("exposure limit H"))
     assert governing["value"] == pytest.approx(500.0)
     assert "Table 2.3, 700-1400 nm" in governing["source"]
+
+
+def test_a_dual_limit_lists_both_candidates() -> None:
+    # 2006/25/EC Annex II Table 2.3 (unverified), 450 nm, 50 s, point source: photochemical
+    # H = 100 C_B = 100 J/m^2 and thermal E = 10 W/m^2 (500 J/m^2); the lower governs.
+    record = exposure_limit(450e-9, 50.0, limits="eu2006").to_dict()
+    values = {candidate["mechanism"]: candidate["radiant_exposure_J_m2"] for candidate in record["candidate_rows"]}
+    assert values == pytest.approx({"photochemical": 100.0, "thermal": 500.0})
+    assert record["governing"] == "photochemical"
+    assert record["limits_citation"].startswith("Directive 2006/25/EC")
