@@ -115,6 +115,10 @@ def as_text(record: dict[str, Any]) -> str:
             f"  basis: the {record['governing']} limit, row {record['governing_row']}",
             f"  source: {record['citation']}",
         ]
+        if len(record["candidate_rows"]) > 1:
+            lines.append("  limits that apply here (the lower governs):")
+            lines += [f"    {candidate['mechanism']}, row {candidate['row']}: "
+                      f"H = {candidate['radiant_exposure_J_m2']:.4g} J/m^2" for candidate in record["candidate_rows"]]
         if record["field_of_view_rad"] is not None:
             lines.append(f"  measured within a field of view of {record['field_of_view_rad'] * 1e3:.4g} mrad")
     lines.append(f"  averaged over a limiting aperture of {record['aperture_m'] * 1e3:.4g} mm diameter")

@@ -164,3 +164,11 @@ def test_the_module_runs_as_a_command_without_tracebacks() -> None:
                          cwd=PROJECT_ROOT, capture_output=True, text=True, check=False)
     assert bad.returncode == 2
     assert "Traceback" not in bad.stderr and "duration" in bad.stderr
+
+
+def test_text_output_shows_both_halves_of_a_dual_limit(capsys: pytest.CaptureFixture[str]) -> None:
+    # 2006/25/EC Annex II Table 2.3 (unverified), 450 nm, 50 s: photochemical 100 J/m^2, thermal 500 J/m^2
+    status, out, _ = run(capsys, "--wavelength", "450nm", "--duration", "50s", "--limits", "eu2006")
+    assert status == 0
+    assert "photochemical, row photochemical-10-100s: H = 100 J/m^2" in out
+    assert "thermal, row visible-long-small: H = 500 J/m^2" in out
