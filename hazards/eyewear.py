@@ -234,7 +234,9 @@ def en207_rating(wavelength_m: float, beam_diameter_1e_m: float, *, average_powe
             warnings.append(f"EN 207 {requirement.condition}: the beam needs more than LB{LB_MAX} "
                             f"(LB{requirement.scale_number}); no EN 207 eyewear is rated for it. Enclose "
                             "the beam or use other controls.")
-    if wavelength_m > 315e-9 and 1e-3 <= beam_diameter_1e_m <= 15e-3 and (
+    # DGUV 203-042 section 5.2 states the correction for d63 of 1-15 mm, yet its own Table 1 examples
+    # (d63 of 23-80 mm) carry ratings above the base table, so any beam from 1 mm up is flagged.
+    if wavelength_m > 315e-9 and beam_diameter_1e_m >= 1e-3 and (
             (average_power_W or 0.0) > 10.0 or any(r.quantity == "E" and r.density > 1e5 for r in requirements)):
         warnings.append("EN 207 large-beam correction (DGUV 203-042 section 5.2) may apply to this beam and was "
                         "not applied; confirm the LB number with the eyewear maker.")
