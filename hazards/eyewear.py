@@ -64,7 +64,7 @@ def optical_density(exposure: float, limit: float) -> tuple[float, int]:
     return exact, max(0, math.ceil(exact - _ROUNDING_SLACK))
 
 
-def test_condition(pulse_duration_s: float | None) -> Condition:
+def en207_condition(pulse_duration_s: float | None) -> Condition:
     """EN 207 test condition from the pulse duration: D (> 0.25 s or continuous), I, R, M."""
     if pulse_duration_s is None or pulse_duration_s > _CONTINUOUS_ABOVE_S:
         return "D"
@@ -212,7 +212,7 @@ def en207_rating(wavelength_m: float, beam_diameter_1e_m: float, *, average_powe
     pulsed = pulse_energy_J is not None and pulse_duration_s is not None
     if pulsed:
         assert pulse_energy_J is not None and pulse_duration_s is not None
-        condition = test_condition(pulse_duration_s)
+        condition = en207_condition(pulse_duration_s)
         if condition == "D":
             # A "pulse" longer than 0.25 s is tested as continuous emission at its own power.
             peak = pulse_energy_J / pulse_duration_s / area
