@@ -31,7 +31,8 @@ _MEMORY = "IEC 60825-1 AEL formula, from memory; cross-checked as MPE x aperture
 
 
 def _nm(wavelength_m: float) -> float:
-    return wavelength_m * 1e9
+    # Rounded so that 700e-9 m compares as 700 nm despite binary floating point.
+    return round(wavelength_m * 1e9, 6)
 
 
 def _blue_light_factor(wavelength_m: float) -> float:
@@ -183,7 +184,8 @@ def check_class(labelled_class: str, wavelength_m: float, beam_diameter_1e_m: fl
     comparisons: list[ClassComparison] = []
     rows = [row for row in _ROWS if row.laser_class == limit_class and row.low_nm <= nm <= row.high_nm]
     if average_power_W is not None and rows:
-        row = rows[0]
+        # At a shared edge the row that starts there applies (the tables write "a <= lambda < b").
+        row = max(rows, key=lambda candidate: candidate.low_nm)
         comparisons.append(ClassComparison(limit_class, "average power", average_power_W * fraction,
                                            row.power_W(wavelength_m), "W", row.time_base_s, row.source))
     elif average_power_W is not None:
