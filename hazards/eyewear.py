@@ -163,14 +163,14 @@ def repetition_factor(wavelength_m: float, pulse_duration_s: float, prf_Hz: floa
     assert grouping is not None  # every wavelength from 400 nm up has a grouping time
     if 1.0 / prf_Hz > grouping:
         pulses = prf_Hz * _TRAIN_WINDOW_S
-        factor = pulses**0.25
+        factor = float(pulses**0.25)
         working.add("EN 207 train correction", "N^(1/4), N = prf x 5 s", factor, "",
                     "DGUV 203-042 section 5.3 case a", N=pulses, prf_Hz=prf_Hz)
         return factor
     window = min(grouping, _TRAIN_WINDOW_S)
     grouped = prf_Hz * window
     groups = max(1.0, _TRAIN_WINDOW_S / grouping)
-    factor = grouped * groups**0.25
+    factor = float(grouped * groups**0.25)
     working.add("EN 207 train correction", "(prf T_i) (5 s / T_i)^(1/4): pulses within T_i summed", factor, "",
                 "DGUV 203-042 section 5.3 case b; T_i of IEC 60825-1:2007 (BGI 832)",
                 T_i_s=grouping, prf_Hz=prf_Hz)
