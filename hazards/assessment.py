@@ -283,7 +283,7 @@ def _tissue_limit(beam: Beam, tissue: str, exposure_s: float, limits: str) -> _L
         result = exposure_limit(beam.wavelength_m, exposure_s, tissue=tissue, source_size_rad=beam.source_size_rad,
                                 limits=limits)
         return _Limit(beam.power_W, _scalar(result.irradiance_W_m2), _scalar(result.aperture_m),
-                      "irradiance", "W/m2", "continuous wave", exposure_s, result.to_dict(), result.working)
+                      "irradiance", "W/m2", "continuous wave", exposure_s, result.to_dict(), result.working or Working())
     pulse_energy = beam.energy_per_pulse_J
     assert pulse_energy is not None and beam.pulse_duration_s is not None
     if beam.mode == "single_pulse":
@@ -291,13 +291,13 @@ def _tissue_limit(beam: Beam, tissue: str, exposure_s: float, limits: str) -> _L
                                 source_size_rad=beam.source_size_rad, limits=limits)
         return _Limit(pulse_energy, _scalar(single.radiant_exposure_J_m2), _scalar(single.aperture_m),
                       "radiant exposure of the pulse", "J/m2", "single pulse", beam.pulse_duration_s,
-                      single.to_dict(), single.working)
+                      single.to_dict(), single.working or Working())
     assert beam.prf_Hz is not None
     train = pulse_train_limit(beam.wavelength_m, exposure_s, beam.pulse_duration_s, beam.prf_Hz, tissue=tissue,
                               source_size_rad=beam.source_size_rad, limits=limits)
     return _Limit(pulse_energy, _scalar(train.per_pulse_J_m2), _scalar(train.aperture_m),
                   "radiant exposure per pulse", "J/m2", _text(train.governing), exposure_s, train.to_dict(),
-                  train.working)
+                  train.working or Working())
 
 
 def _check_beam(beam: Beam) -> None:
@@ -490,7 +490,7 @@ def parse_assessment_request(mapping: Mapping[str, object]) -> tuple[Beam, Scena
         power_W=_optional(mapping, "power", "W", minimum=0.0, inclusive_minimum=False, maximum=1e9),
         beam_diameter_m=_required(mapping, "beam_diameter", "m", minimum=0.0, inclusive_minimum=False, maximum=10.0),
         divergence_rad=_required(mapping, "divergence", "rad", minimum=0.0, maximum=math.pi),
-        diameter_at=diameter_at,  # type: ignore[arg-type]  # checked against DIAMETER_DEFINITIONS above
+        diameter_at=diameter_at,
         pulse_energy_J=_optional(mapping, "pulse_energy", "J", minimum=0.0, inclusive_minimum=False, maximum=1e6),
         pulse_duration_s=_optional(mapping, "pulse_duration", "s", minimum=1e-13, maximum=3e4),
         prf_Hz=_optional(mapping, "prf", "Hz", minimum=0.0, inclusive_minimum=False, maximum=1e12),
