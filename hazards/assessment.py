@@ -16,7 +16,7 @@ from typing import Any, Literal
 import numpy as np
 
 from hazards import ENGINE_VERSION
-from hazards.beam import DIAMETER_DEFINITIONS, DiameterDefinition, aperture_averaged, to_one_over_e
+from hazards.beam import DIAMETER_DEFINITIONS, DiameterDefinition, aperture_averaged, to_one_over_e, to_one_over_e2
 from hazards.classes import ClassCheck, check_class, normalise_class
 from hazards.distances import (
     HazardDistance,
@@ -166,6 +166,8 @@ class Assessment:
                 "divergence_rad": beam.divergence_rad, "diameter_at": beam.diameter_at,
                 "beam_diameter_1e_m": to_one_over_e(beam.beam_diameter_m, beam.diameter_at),
                 "divergence_1e_rad": to_one_over_e(beam.divergence_rad, beam.diameter_at),
+                "beam_diameter_1e2_m": to_one_over_e2(beam.beam_diameter_m, beam.diameter_at),
+                "divergence_1e2_rad": to_one_over_e2(beam.divergence_rad, beam.diameter_at),
                 "pulse_energy_J": beam.energy_per_pulse_J if beam.mode != "continuous" else None,
                 "pulse_duration_s": beam.pulse_duration_s, "prf_Hz": beam.prf_Hz,
                 "source_size_rad": beam.source_size_rad, "laser_class": beam.laser_class,
