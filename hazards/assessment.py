@@ -28,7 +28,14 @@ from hazards.distances import (
 )
 from hazards.errors import InputError
 from hazards.eyewear import Adequacy, En207Rating, EyewearBand, en207_rating, eyewear_adequacy, optical_density, parse_marking
-from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS, default_exposure_duration, exposure_limit, pulse_train_limit
+from hazards.limits import (
+    DEFAULT_LIMITS,
+    LIMIT_SETS,
+    default_exposure_duration,
+    exposure_duration_basis,
+    exposure_limit,
+    pulse_train_limit,
+)
 from hazards.units import format_si, parse_quantity
 from hazards.working import Working
 
@@ -352,9 +359,7 @@ def assess(beam: Beam, scenario: Scenario) -> Assessment:
         basis = "a single pulse: the exposure lasts one pulse"
     elif scenario.exposure_s is None:
         exposure_s = float(default_exposure_duration(beam.wavelength_m, deliberate=scenario.deliberate_viewing))
-        basis = ("default for deliberate long viewing" if scenario.deliberate_viewing else
-                 "default of common practice: 0.25 s aversion response (400-700 nm), 10 s infrared, "
-                 "30 000 s ultraviolet")
+        basis = exposure_duration_basis(beam.wavelength_m, deliberate=scenario.deliberate_viewing)
     else:
         exposure_s = scenario.exposure_s
         basis = "given"
