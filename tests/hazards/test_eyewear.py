@@ -32,6 +32,10 @@ VISIBLE_025S_W_M2 = 18 * 0.25**0.75 / 0.25  # ICNIRP 2013 Table 5, 400-700 nm, 0
     # 1064 nm, 100 mJ in 10 ns, d63 5 mm (whole pulse in the pupil): 0.1 / 3.8485e-5 = 2598.4 J/m^2;
     # single-pulse MPE 0.05 J/m^2 (BGI 832 / IEC 60825-1:2007, 1050-1400 nm, 1 ns-50 us) -> 10^4.7157
     (aperture_averaged(0.1, 5e-3, 7e-3), 0.05, 4.7157, 5),
+    # "Fundamentals of Medical/Aesthetic Lasers and IPLs" v1.2, chapter 1, "Optical Density" (public training
+    # guide, online.flipbuilder.com/rbhw/egvu pages 111-112): 12.5 J/cm^2 on a 1 ns 1064 nm MPE of 5e-6 J/cm^2,
+    # "OD = log10(12.5 / 5x10-6) = 6.4", and in practice "a minimum OD of 7 at 1064 nm".
+    (12.5e4, 5e-2, 6.398, 7),
     (1000.0, 10.0, 2.0, 2),  # exactly two decades: rounding up must not add a third
     (5.0, 10.0, math.log10(0.5), 0),  # below the MPE: no filter needed
 ])
