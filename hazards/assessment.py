@@ -357,6 +357,9 @@ def assess(beam: Beam, scenario: Scenario) -> Assessment:
         assert beam.pulse_duration_s is not None
         exposure_s = beam.pulse_duration_s
         basis = "a single pulse: the exposure lasts one pulse"
+        if scenario.exposure_s is not None:
+            warnings.append("The exposure duration given does not apply to a single pulse; the pulse duration is "
+                            "used. Give a pulse repetition frequency to assess a train.")
     elif scenario.exposure_s is None:
         exposure_s = float(default_exposure_duration(beam.wavelength_m, deliberate=scenario.deliberate_viewing))
         basis = exposure_duration_basis(beam.wavelength_m, deliberate=scenario.deliberate_viewing)
