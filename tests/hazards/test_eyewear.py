@@ -162,6 +162,20 @@ def test_lb_never_falls_as_power_rises(power: float, factor: float, wavelength: 
     assert high >= low
 
 
+@given(st.floats(min_value=1e-9, max_value=10.0), st.floats(min_value=1.0, max_value=1e4),
+       st.sampled_from([10e-15, 10e-9, 100e-6]), st.sampled_from([None, 10.0, 1e3, 80e6]),
+       st.sampled_from([266e-9, 800e-9, 1064e-9, 2.94e-6]))
+def test_pulsed_lb_numbers_never_fall_as_pulse_energy_rises(energy: float, factor: float, duration: float,
+                                                            prf: float | None, wavelength: float) -> None:
+    def numbers(pulse_energy: float) -> list[int]:
+        power = None if prf is None else pulse_energy * prf
+        rating = en207_rating(wavelength, 2e-3, average_power_W=power, pulse_energy_J=pulse_energy,
+                              pulse_duration_s=duration, prf_Hz=prf)
+        return [requirement.scale_number for requirement in rating.requirements]
+
+    assert all(high >= low for low, high in zip(numbers(energy), numbers(energy * factor), strict=True))
+
+
 @pytest.mark.parametrize(("text", "low_nm", "high_nm", "od", "numbers"), [
     ("D 1064 LB6", 1064, 1064, None, {"D": 6}),
     ("IR 1064 LB7", 1064, 1064, None, {"I": 7, "R": 7}),
