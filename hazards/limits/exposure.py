@@ -122,6 +122,9 @@ def _item(array: FloatArray, index: int) -> float | None:
     return value if math.isfinite(value) else None
 
 
+_BOUND_SLACK = 1e-9
+
+
 def check_limits_and_tissue(limits: str, tissue: str) -> LimitSet:
     if limits not in LIMIT_SETS:
         raise InputError("limits", f"{limits!r} is not a known limit set: allowed {', '.join(LIMIT_SETS)}")
@@ -143,8 +146,10 @@ def as_checked_array(value: object, *, field: str, unit: str, minimum: float, ma
         array = np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError):
         raise InputError(field, f"expected numbers in {unit}, got {value!r}") from None
-    too_low = array < minimum if inclusive_minimum else array <= minimum
-    bad = ~np.isfinite(array) | too_low | (array > maximum)
+    # A bound reached through a unit conversion (180 nm as 1.7999999999999997e-07 m) is on the bound.
+    low, high = minimum - _BOUND_SLACK * abs(minimum), maximum + _BOUND_SLACK * abs(maximum)
+    too_low = array < low if inclusive_minimum else array <= minimum
+    bad = ~np.isfinite(array) | too_low | (array > high)
     if bad.any():
         position = int(np.flatnonzero(bad.reshape(-1))[0])
         where = "" if array.ndim == 0 else f" (element {position})"
@@ -153,7 +158,7 @@ def as_checked_array(value: object, *, field: str, unit: str, minimum: float, ma
                            maximum=maximum, inclusive_minimum=inclusive_minimum)
         except InputError as error:
             raise InputError(field, error.message + where) from None
-    return array
+    return np.clip(array, minimum, maximum) if inclusive_minimum else np.minimum(array, maximum)
 
 
 def check_points(limit_set: LimitSet, wavelength_m: object, duration_s: object, source_size_rad: object,
