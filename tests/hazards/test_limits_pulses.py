@@ -5,9 +5,11 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 from hazards.errors import InputError
-from hazards.limits import pulse_train_limit
+from hazards.limits import exposure_limit, pulse_train_limit
 
 
 def test_a_q_switched_nd_yag_train_is_governed_by_the_reduced_single_pulse_rule_eu2006() -> None:
@@ -117,3 +119,39 @@ def test_it_rejects_impossible_trains(pulse_duration: str, prf: str, exposure: f
         pulse_train_limit(532e-9, exposure, pulse_duration, prf)
     assert raised.value.field == field
     assert message in raised.value.message
+
+
+def test_a_skin_train_under_icnirp2013_has_no_reduced_rule() -> None:
+    # ICNIRP 2013 applies C_P to the retinal thermal limits only. Skin, 400-1400 nm: 200 C_A J/m^2
+    # for 1-100 ns pulses; at 10 s, the edge between 1.1x10^4 C_A t^0.25 and 2x10^3 C_A W/m^2, the
+    # stricter 1.1x10^4 C_A 10^0.25 J/m^2, shared by 100 pulses.
+    train = pulse_train_limit(1064e-9, 10.0, 1e-8, 10.0, tissue="skin")
+    assert math.isnan(float(train.candidates["reduced_single_pulse"]))
+    assert float(train.candidates["single_pulse"]) == pytest.approx(200 * 5)
+    assert float(train.candidates["average_power"]) == pytest.approx(1.1e4 * 5 * 10**0.25 / 100)
+    assert str(train.governing) == "average_power"
+    assert train.working is not None and "not applicable" in train.working.as_text()
+
+
+@settings(max_examples=200, deadline=None)
+@given(limits=st.sampled_from(["icnirp2013", "eu2006"]), tissue=st.sampled_from(["eye", "skin"]),
+       wavelength_nm=st.floats(min_value=180.0, max_value=1e6), exposure_exponent=st.floats(min_value=-6, max_value=4.4),
+       pulse_exponent=st.floats(min_value=-13, max_value=-3), prf_exponent=st.floats(min_value=0, max_value=8),
+       alpha_mrad=st.floats(min_value=0.0, max_value=200.0))
+def test_a_train_never_allows_more_than_one_pulse_or_the_whole_exposure_would(
+        limits: str, tissue: str, wavelength_nm: float, exposure_exponent: float, pulse_exponent: float,
+        prf_exponent: float, alpha_mrad: float) -> None:
+    # Table 2.6 rules 1 and 2 (2006/25/EC Annex II) bound every per-pulse limit from above.
+    exposure, pulse, prf = 10**exposure_exponent, 10**pulse_exponent, 10**prf_exponent
+    assume(pulse * prf < 1 and pulse <= exposure)
+    train = pulse_train_limit(wavelength_nm * 1e-9, exposure, pulse, prf, tissue=tissue,
+                              source_size_rad=alpha_mrad * 1e-3, limits=limits)
+    per_pulse = float(train.per_pulse_J_m2)
+    one_pulse = exposure_limit(wavelength_nm * 1e-9, pulse, tissue=tissue, source_size_rad=alpha_mrad * 1e-3,
+                               limits=limits)
+    whole = exposure_limit(wavelength_nm * 1e-9, exposure, tissue=tissue, source_size_rad=alpha_mrad * 1e-3,
+                           limits=limits)
+    assert math.isfinite(per_pulse) and per_pulse > 0
+    assert per_pulse <= float(one_pulse.radiant_exposure_J_m2) * (1 + 1e-12)
+    assert float(train.radiant_exposure_J_m2) <= float(whole.radiant_exposure_J_m2) * (1 + 1e-12)
+    assert train.working is not None
