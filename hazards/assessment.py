@@ -460,7 +460,7 @@ def _or(value: float | None, default: float) -> float:
 def _required(mapping: Mapping[str, object], key: str, unit: str, **bounds: Any) -> float:
     value = _optional(mapping, key, unit, **bounds)
     if value is None:
-        raise InputError(key, "is required")
+        raise InputError(key, f"missing; give a number in {unit} or a value with units")
     return value
 
 
@@ -509,7 +509,7 @@ def parse_assessment_request(mapping: Mapping[str, object]) -> tuple[Beam, Scena
     )
     if beam.power_W is None and beam.mode != "single_pulse" and not (
             beam.pulse_energy_J is not None and beam.prf_Hz is not None):
-        raise InputError("power", "is required (or give pulse_energy and prf for a pulse train)")
+        raise InputError("power", "missing; give the average power (or pulse_energy and prf for a pulse train)")
     _check_beam(beam)
     focal_length = _optional(mapping, "focal_length", "m", minimum=0.0, inclusive_minimum=False, maximum=100.0)
     fibre_core = _optional(mapping, "fibre_core", "m", minimum=0.0, maximum=0.01)
