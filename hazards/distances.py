@@ -72,7 +72,8 @@ def nohd(amount: float, limit: float, beam_diameter_m: float, divergence_rad: fl
         working.add(f"{what}: no hazard beyond the exit", reason, 0.0, "m", "",
                     d_c=d_c, a=beam_diameter_m, D_ap=aperture_m)
         return HazardDistance(0.0, False, form or "quadrature", {"quadrature": 0.0, "linear": 0.0}, working)
-    if divergence_rad == 0:
+    # A divergence so small that d_c / phi overflows is collimated for every practical purpose.
+    if divergence_rad == 0 or not math.isfinite(d_c / divergence_rad):
         working.add(f"{what}: collimated beam", "phi = 0 and d_c > a: the limit is exceeded at any range",
                     "unbounded", "", "", d_c=d_c, a=beam_diameter_m)
         return HazardDistance(None, True, form or "quadrature", {"quadrature": None, "linear": None}, working)

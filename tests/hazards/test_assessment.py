@@ -5,9 +5,12 @@ import json
 import math
 from typing import Any
 
+import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from hazards.assessment import Beam, Scenario, assess, parse_assessment_request
+from hazards.assessment import Beam, Scenario, assess, json_safe, parse_assessment_request
 from hazards.cli import main
 from hazards.errors import InputError
 from hazards.limits import pulse_train_limit
@@ -226,3 +229,28 @@ def test_deliberate_viewing_takes_the_long_default() -> None:
     result = _assess(**GREEN_5W, deliberate=True)
     assert result["exposure_basis"]["exposure_s"] == 30000.0
     assert "deliberate" in result["exposure_basis"]["how"]
+
+
+@pytest.mark.parametrize(("value", "expected"), [
+    (float("inf"), None),
+    (float("nan"), None),
+    (np.float64(2.5), 2.5),
+    (np.array(3.0), 3.0),
+    (np.array([1.0, np.inf]), [1.0, None]),
+    ({"a": (np.int64(2), -np.inf)}, {"a": [2, None]}),
+])
+def test_json_safe_leaves_only_finite_plain_values(value: object, expected: object) -> None:
+    assert json_safe(value) == expected
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(min_value=190e-9, max_value=0.9e-3), st.floats(min_value=1e-6, max_value=1e4),
+       st.floats(min_value=1e-5, max_value=0.1), st.floats(min_value=0.0, max_value=0.5),
+       st.sampled_from(["icnirp2013", "eu2006"]))
+def test_any_continuous_emission_gives_finite_json(wavelength: float, power: float, diameter: float,
+                                                   divergence: float, limits: str) -> None:
+    result = _assess(wavelength=wavelength, power=power, beam_diameter=diameter, divergence=divergence,
+                     limits=limits)
+    json.dumps(result, allow_nan=False)
+    assert (result["nohd_m"] is None) == result["nohd_unbounded"]
+    assert result["od_required"] >= 0
