@@ -189,10 +189,20 @@ def test_bad_requests_name_the_field(changes: dict[str, object], field: str) -> 
     assert error.value.field == field
 
 
-def test_a_beam_built_in_code_is_checked_too() -> None:
+@pytest.mark.parametrize(("beam", "scenario", "field"), [
+    (Beam(532e-9, None, 2e-3, 1e-3), Scenario(), "power"),
+    (Beam(532e-9, 5.0, -2e-3, 1e-3), Scenario(), "beam_diameter"),
+    (Beam(532e-9, 5.0, 2e-3, float("nan")), Scenario(), "divergence"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3, diameter_at="fwhm"), Scenario(), "diameter_at"),  # type: ignore[arg-type]
+    (Beam(90e-9, 5.0, 2e-3, 1e-3), Scenario(), "wavelength"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(diffuse_reflectance=2.0), "reflectance"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(fibre_na=1.5), "fibre_na"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(limits="ansi"), "limits"),
+])
+def test_a_beam_or_scenario_built_in_code_is_checked_too(beam: Beam, scenario: Scenario, field: str) -> None:
     with pytest.raises(InputError) as error:
-        assess(Beam(532e-9, None, 2e-3, 1e-3), Scenario())
-    assert error.value.field == "power"
+        assess(beam, scenario)
+    assert error.value.field == field
 
 
 def test_the_command_prints_json(capsys: pytest.CaptureFixture[str]) -> None:
