@@ -264,3 +264,18 @@ def test_any_continuous_emission_gives_finite_json(wavelength: float, power: flo
     json.dumps(result, allow_nan=False)
     assert (result["nohd_m"] is None) == result["nohd_unbounded"]
     assert result["od_required"] >= 0
+
+
+@pytest.mark.parametrize(("option", "value", "field"), [
+    ("--limits", "ansi2014", "limits"), ("--diameter-at", "fwhm", "diameter_at"), ("--class", "IIIb", "laser_class"),
+    ("--wavelength", "90nm", "wavelength"), ("--exposure", "5 kg", "exposure"),
+])
+def test_every_bad_option_is_one_line_naming_the_field(capsys: pytest.CaptureFixture[str], option: str, value: str,
+                                                       field: str) -> None:
+    arguments = {"--wavelength": "532nm", "--power": "5W", "--beam-diameter": "2mm", "--divergence": "1mrad",
+                 option: value}
+    status = main(["assess", *[part for pair in arguments.items() for part in pair]])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert err.startswith(f"error: {field}:")
+    assert err.count("\n") == 1
