@@ -43,6 +43,17 @@ def test_pulse_train_json_has_each_rule(capsys: pytest.CaptureFixture[str]) -> N
     # 2006/25/EC Annex II Table 2.2 (5x10^-3 J/m^2, 1 ns - 18 us) and Table 2.6 rule 3 with N = 3
     assert record["per_pulse_J_m2"] == pytest.approx(5e-3 * 3**-0.25)
     assert record["governing"] == "reduced_single_pulse"
+    assert record["citations"]["reduced_single_pulse"] == "2006/25/EC Annex II Table 2.2, 400-700 nm, 10^-9 - 1.8x10^-5 s"
+    assert record["citations"]["average_power"] == "2006/25/EC Annex II Table 2.2, 400-700 nm, 1.8x10^-5 - 10 s"
+
+
+def test_pulse_train_text_names_the_rule_and_its_source(capsys: pytest.CaptureFixture[str]) -> None:
+    status, out, _ = run(capsys, "--wavelength", "1064nm", "--duration", "10s", "--pulse-duration", "10ns",
+                         "--prf", "10Hz", "--limits", "eu2006")
+    assert status == 0
+    assert "governed by the reduced_single_pulse rule" in out
+    assert "source: 2006/25/EC Annex II Table 2.2, 1050-1400 nm, 10^-9 - 5x10^-5 s" in out
+    assert "N = 100 pulses" in out and "Caution:" in out
 
 
 def test_text_output_states_units_basis_source_and_caution(capsys: pytest.CaptureFixture[str]) -> None:

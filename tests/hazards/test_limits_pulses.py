@@ -155,3 +155,15 @@ def test_a_train_never_allows_more_than_one_pulse_or_the_whole_exposure_would(
     assert per_pulse <= float(one_pulse.radiant_exposure_J_m2) * (1 + 1e-12)
     assert float(train.radiant_exposure_J_m2) <= float(whole.radiant_exposure_J_m2) * (1 + 1e-12)
     assert train.working is not None
+
+
+def test_the_aperture_follows_the_governing_rule() -> None:
+    # 2006/25/EC Annex II Table 2.2 footnote (b): 1400 nm - 0.1 mm, 1 mm for t <= 0.3 s, and
+    # Table 2.3 footnote (c): 3.5 mm for t >= 10 s. A 1 us pulse is judged through 1 mm, the
+    # 100 s train through 3.5 mm.
+    train = pulse_train_limit(10.6e-6, 100.0, 1e-6, 100.0, limits="eu2006")
+    assert str(train.governing) == "average_power"
+    assert float(train.aperture_m) == pytest.approx(3.5e-3)
+    # ICNIRP 2013 limiting apertures, 400-1400 nm: 7 mm whatever the duration
+    single = pulse_train_limit(1064e-9, 10.0, 10e-9, 10.0)
+    assert float(single.aperture_m) == pytest.approx(7e-3)

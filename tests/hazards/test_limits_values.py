@@ -14,10 +14,20 @@ import pytest
 
 from hazards.limits import default_exposure_duration, exposure_duration_basis, exposure_limit
 
-C_A = lambda nm: 10 ** (0.002 * (nm - 700))  # noqa: E731  2006/25/EC Annex II Table 2.5, 700-1050 nm
-C_B = lambda nm: 10 ** (0.02 * (nm - 450))  # noqa: E731  2006/25/EC Annex II Table 2.5, 450-700 nm
-C_C = lambda nm: 10 ** (0.018 * (nm - 1150))  # noqa: E731  2006/25/EC Annex II Table 2.5, 1150-1200 nm
-T2 = lambda mrad: 10 * 10 ** ((mrad - 1.5) / 98.5)  # noqa: E731  2006/25/EC Annex II Table 2.5
+def C_A(nm: float) -> float:  # noqa: N802 (the tables' symbol)
+    return float(10 ** (0.002 * (nm - 700)))  # 2006/25/EC Annex II Table 2.5, 700-1050 nm
+
+
+def C_B(nm: float) -> float:  # noqa: N802
+    return float(10 ** (0.02 * (nm - 450)))  # 2006/25/EC Annex II Table 2.5, 450-700 nm
+
+
+def C_C(nm: float) -> float:  # noqa: N802
+    return float(10 ** (0.018 * (nm - 1150)))  # 2006/25/EC Annex II Table 2.5, 1150-1200 nm
+
+
+def T2(mrad: float) -> float:  # noqa: N802
+    return float(10 * 10 ** ((mrad - 1.5) / 98.5))  # 2006/25/EC Annex II Table 2.5, 1.5-100 mrad
 
 
 # (wavelength nm, duration s, source size mrad, expected H J/m^2)
