@@ -10,7 +10,7 @@ import argparse
 import sys
 from collections.abc import Sequence
 
-from hazards.cli import limit
+from hazards.cli import assess, limit
 from hazards.errors import InputError
 
 EXIT_BAD_INPUT = 2
@@ -24,6 +24,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     subparsers = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     limit.register(subparsers)
+    assess.register(subparsers)
     return parser
 
 
