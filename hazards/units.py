@@ -13,8 +13,9 @@ import pint
 
 from hazards.errors import InputError
 
-ureg = pint.UnitRegistry()
-pint.set_application_registry(ureg)
+ureg: pint.UnitRegistry[float] = pint.UnitRegistry()
+# Quantities unpickled elsewhere in the process then belong to this same registry.
+pint.set_application_registry(ureg)  # type: ignore[no-untyped-call]
 
 _NUMBER_THEN_UNIT = re.compile(
     r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$"
