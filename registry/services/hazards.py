@@ -72,7 +72,7 @@ def emission_beam(emission: Emission, *, wavelength_m: float | None = None) -> B
         power_W=emission.average_power_W,
         beam_diameter_m=emission.beam_diameter_m,
         divergence_rad=emission.divergence_rad,
-        diameter_at=emission.diameter_definition,  # type: ignore[arg-type]
+        diameter_at=emission.diameter_definition,
         pulse_energy_J=None if continuous else emission.pulse_energy_J,
         pulse_duration_s=None if continuous else pulse_duration,
         prf_Hz=None if continuous or single else emission.prf_Hz,
@@ -102,29 +102,43 @@ def _severity(assessment: Assessment) -> tuple[bool, float, float]:
     return (assessment.nohd.unbounded, assessment.nohd.distance_m or 0.0, assessment.od_exact)
 
 
-def emission_evaluate(emission: Emission, *, limits: str) -> tuple[Assessment, list[str]]:
-    """The assessment that stands for ``emission``: for a tunable range, the wavelength with
-    the longest NOHD, with warnings about the rest of the range. No database writes."""
-    extra: list[str] = []
+@dataclass(frozen=True)
+class EmissionEvaluation:
+    """What is stored for an emission: the assessment standing for it, the register's own
+    warnings, and the optical density eyewear must reach (the highest over a tunable range)."""
+
+    assessment: Assessment
+    warnings: list[str]
+    od_required: float
+
+
+def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
+    """Assess ``emission`` under ``limits`` without writing anything. For a tunable range the
+    assessment with the longest NOHD stands for the emission. Raises ValidationError keyed
+    by the emission field the engine refused."""
+    scenario = emission_scenario(emission, limits=limits)
     try:
-        assessments = [assess(emission_beam(emission, wavelength_m=wavelength),
-                              emission_scenario(emission, limits=limits)) for wavelength in _wavelengths(emission)]
+        assessments = [assess(emission_beam(emission, wavelength_m=wavelength), scenario)
+                       for wavelength in _wavelengths(emission)]
     except InputError as error:
         raise ValidationError({_ENGINE_FIELDS.get(error.field, error.field): error.message}) from None
     worst = max(assessments, key=_severity)
+    densest = max(assessments, key=lambda item: item.od_exact)
+    warnings: list[str] = []
     if emission.pulse_duration_s is not None and emission.pulse_duration_s < _SHORTEST_TABULATED_PULSE_S:
-        extra.append(f"Pulse duration {format_si(emission.pulse_duration_s, 's')} is shorter than the 100 fs where "
-                     "the limit tables start; the pulses were assessed as 100 fs pulses. Confirm with the LSO.")
+        warnings.append(f"Pulse duration {format_si(emission.pulse_duration_s, 's')} is shorter than the 100 fs "
+                        "where the limit tables start; the pulses were assessed as 100 fs pulses. Confirm with "
+                        "the LSO.")
     if len(assessments) > 1:
-        od_worst = max(assessments, key=lambda item: item.od_exact)
-        extra.append(
+        assert emission.wavelength_max_m is not None
+        warnings.append(
             f"Tunable from {format_si(emission.wavelength_m, 'm')} to {format_si(emission.wavelength_max_m, 'm')}: "
             f"assessed at {len(assessments)} wavelengths; the figures are for "
             f"{format_si(worst.beam.wavelength_m, 'm')}, the longest NOHD. The required optical density reaches "
-            f"OD {od_worst.od_required} at {format_si(od_worst.beam.wavelength_m, 'm')}; eyewear must cover "
+            f"OD {densest.od_required} at {format_si(densest.beam.wavelength_m, 'm')}; eyewear must cover "
             "the whole range."
         )
-    return worst, extra
+    return EmissionEvaluation(assessment=worst, warnings=warnings, od_required=float(densest.od_required))
 
 
 def _finite(value: object) -> float | None:
@@ -134,7 +148,8 @@ def _finite(value: object) -> float | None:
     return number if math.isfinite(number) else None
 
 
-def _result_values(assessment: Assessment, extra_warnings: list[str], od_required: float) -> dict[str, object]:
+def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
+    assessment = evaluation.assessment
     eye, skin = assessment.eye.record, assessment.skin.record
     return {
         "exposure_s": assessment.exposure_s,
@@ -147,10 +162,10 @@ def _result_values(assessment: Assessment, extra_warnings: list[str], od_require
         "nohd_unbounded": assessment.nohd.unbounded,
         "diffuse_hazard_distance_m": _finite(assessment.diffuse.distance_m),
         "skin_hazard_distance_m": _finite(assessment.skin_distance.distance_m),
-        "od_required": od_required,
+        "od_required": evaluation.od_required,
         "en207_marking": " + ".join(assessment.en207.markings),
         "working": assessment.working.to_json(),
-        "warnings": list(assessment.warnings) + extra_warnings,
+        "warnings": list(assessment.warnings) + evaluation.warnings,
         "engine_version": ENGINE_VERSION,
     }
 
@@ -158,14 +173,7 @@ def _result_values(assessment: Assessment, extra_warnings: list[str], od_require
 @transaction.atomic
 def emission_assess(*, emission: Emission, limits: str, by: Person | None = None) -> HazardResult:
     """Assess ``emission`` under ``limits`` and store (or replace) its HazardResult."""
-    assessment, extra = emission_evaluate(emission, limits=limits)
-    od_required = float(assessment.od_required)
-    if emission.wavelength_max_m is not None:
-        # For a range, eyewear must meet the highest OD anywhere in it.
-        od_required = max(od_required, *(float(assess(emission_beam(emission, wavelength_m=w),
-                                                      emission_scenario(emission, limits=limits)).od_required)
-                                         for w in _wavelengths(emission)))
-    values = _result_values(assessment, extra, od_required)
+    values = _result_values(emission_evaluate(emission, limits=limits))
     result = HazardResult.objects.filter(emission=emission, limits=limits).first() or HazardResult(
         emission=emission, limits=limits)
     for name, value in values.items():
