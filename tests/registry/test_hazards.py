@@ -136,9 +136,6 @@ def test_the_demo_campus_stores_results_for_the_emissions_it_can_assess() -> Non
             assert result.nohd_unbounded or (result.nohd_m is not None and math.isfinite(result.nohd_m))
 
 
-@pytest.mark.xfail(strict=True, reason="hazards.limits.pulse_train_limit raises IndexError for ICNIRP 2013 skin "
-                                        "limits of pulse trains (no row for the reduced-pulse rule); reported to "
-                                        "the limits engine. Remove this mark once it is fixed.")
 def test_every_demo_emission_assesses_without_error() -> None:
     summary = campus_load(data=campus_read())
     assert summary.not_assessed == []
