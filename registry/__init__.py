@@ -1,0 +1,1 @@
+"""The register: Django project and app (settings, models, services, admin, commands)."""

@@ -1,0 +1,96 @@
+"""Typed readers for settings taken from the environment.
+
+Each reader fails loudly (ImproperlyConfigured naming the variable) on a value it cannot
+read, instead of guessing: "yes", "1" or "on" are not booleans here. Secrets may also come
+from a file named by ``<NAME>_FILE`` (the way container secrets are mounted).
+"""
+from __future__ import annotations
+
+import os
+import zoneinfo
+
+from django.core.exceptions import ImproperlyConfigured
+
+_TRUE = "true"
+_FALSE = "false"
+
+
+def env_str(name: str, default: str | None = None) -> str:
+    """The variable as text; without a default, a missing or empty variable is an error."""
+    value = os.environ.get(name, "")
+    if value:
+        return value
+    if default is None:
+        raise ImproperlyConfigured(f"The environment variable {name} must be set.")
+    return default
+
+
+def env_secret(name: str) -> str | None:
+    """A secret from ``NAME`` or from the file named by ``NAME_FILE``; None when neither is set."""
+    value = os.environ.get(name, "")
+    path = os.environ.get(f"{name}_FILE", "")
+    if value and path:
+        raise ImproperlyConfigured(f"Set either {name} or {name}_FILE, not both.")
+    if path:
+        try:
+            with open(path, encoding="utf-8") as handle:
+                value = handle.read().strip()
+        except OSError as error:
+            raise ImproperlyConfigured(f"{name}_FILE: cannot read {path!r}: {error.strerror}") from None
+        if not value:
+            raise ImproperlyConfigured(f"{name}_FILE: {path!r} is empty.")
+    return value or None
+
+
+def env_bool(name: str, default: bool) -> bool:
+    """Exactly "true" or "false" (any case); anything else is an error."""
+    value = os.environ.get(name, "").strip().lower()
+    if not value:
+        return default
+    if value == _TRUE:
+        return True
+    if value == _FALSE:
+        return False
+    raise ImproperlyConfigured(f"The environment variable {name} must be 'true' or 'false', got {value!r}.")
+
+
+def env_int(name: str, default: int, *, minimum: int | None = None) -> int:
+    value = os.environ.get(name, "").strip()
+    if not value:
+        return default
+    try:
+        number = int(value)
+    except ValueError:
+        raise ImproperlyConfigured(f"The environment variable {name} must be an integer, got {value!r}.") from None
+    if minimum is not None and number < minimum:
+        raise ImproperlyConfigured(f"The environment variable {name} must be at least {minimum}, got {number}.")
+    return number
+
+
+def env_list(name: str, default: list[str]) -> list[str]:
+    """A comma-separated list; blanks around items are dropped, empty items are an error."""
+    value = os.environ.get(name, "")
+    if not value.strip():
+        return list(default)
+    items = [item.strip() for item in value.split(",")]
+    if any(not item for item in items):
+        raise ImproperlyConfigured(f"The environment variable {name} has an empty item: {value!r}.")
+    return items
+
+
+def env_choice(name: str, default: str, choices: tuple[str, ...]) -> str:
+    value = os.environ.get(name, "").strip() or default
+    if value not in choices:
+        raise ImproperlyConfigured(
+            f"The environment variable {name} must be one of {', '.join(choices)}; got {value!r}."
+        )
+    return value
+
+
+def env_time_zone(name: str, default: str) -> str:
+    value = env_str(name, default)
+    try:
+        zoneinfo.ZoneInfo(value)
+    except (zoneinfo.ZoneInfoNotFoundError, ValueError):
+        raise ImproperlyConfigured(f"The environment variable {name} is not a known time zone: {value!r}.") from None
+    return value

@@ -1,0 +1,140 @@
+"""Beamkeeper settings, read from the environment through registry.env.
+
+Two modes, chosen by BEAMKEEPER_ENV:
+
+- ``development`` (the default): DEBUG on, SQLite beside the code, mail printed to the
+  console, a fixed insecure SECRET_KEY that is only ever accepted in this mode.
+- ``production``: refuses to start without SECRET_KEY (or SECRET_KEY_FILE) and
+  ALLOWED_HOSTS, refuses DEBUG, and turns on the HTTPS protections that
+  ``manage.py check --deploy`` looks for.
+
+See DEVELOPERS.md for the full list of variables.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import dj_database_url
+from django.core.exceptions import ImproperlyConfigured
+
+from registry.env import env_bool, env_choice, env_int, env_list, env_secret, env_str, env_time_zone
+
+BASE_DIR = Path(__file__).resolve().parent.parent
+
+BEAMKEEPER_ENV = env_choice("BEAMKEEPER_ENV", "development", ("development", "production"))
+PRODUCTION = BEAMKEEPER_ENV == "production"
+
+_secret_key = env_secret("SECRET_KEY")
+if _secret_key is None:
+    if PRODUCTION:
+        raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs SECRET_KEY or SECRET_KEY_FILE.")
+    # Development only: a key everyone knows, so sessions survive restarts of runserver.
+    _secret_key = "development-only-key-not-secret-do-not-deploy-0123456789abcdef"
+SECRET_KEY = _secret_key
+
+DEBUG = env_bool("DEBUG", default=not PRODUCTION)
+if PRODUCTION and DEBUG:
+    raise ImproperlyConfigured("DEBUG=true is refused when BEAMKEEPER_ENV=production.")
+
+ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [] if PRODUCTION else ["127.0.0.1", "localhost", "[::1]"])
+if PRODUCTION and not ALLOWED_HOSTS:
+    raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs ALLOWED_HOSTS (comma-separated host names).")
+CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", [])
+
+INSTALLED_APPS = [
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "rest_framework",
+    "rest_framework.authtoken",
+    "django_filters",
+    "drf_spectacular",
+    "drf_spectacular_sidecar",
+    "simple_history",
+    "registry",
+]
+
+MIDDLEWARE = [
+    "django.middleware.security.SecurityMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    # Records the signed-in user on every history row written during a request.
+    "simple_history.middleware.HistoryRequestMiddleware",
+]
+
+ROOT_URLCONF = "registry.urls"
+WSGI_APPLICATION = "registry.wsgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [BASE_DIR / "templates"],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+            ],
+        },
+    },
+]
+
+DATABASES = {
+    "default": dj_database_url.config(
+        default=f"sqlite:///{BASE_DIR / 'db.sqlite3'}",
+        conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 0, minimum=0),
+    ),
+}
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+AUTH_PASSWORD_VALIDATORS = [
+    {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
+    {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator"},
+    {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
+    {"NAME": "django.contrib.auth.password_validation.NumericPasswordValidator"},
+]
+
+LANGUAGE_CODE = "en"
+TIME_ZONE = env_time_zone("TIME_ZONE", "UTC")
+USE_I18N = True
+USE_TZ = True
+
+STATIC_URL = "static/"
+STATIC_ROOT = Path(env_str("STATIC_ROOT", str(BASE_DIR / "staticfiles")))
+MEDIA_URL = "media/"
+MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
+
+LOGIN_URL = "admin:login"
+
+# Mail: SMTP when EMAIL_HOST is set, otherwise printed to the console. A production
+# deployment without EMAIL_HOST gets a system-check warning (registry.checks).
+EMAIL_HOST = env_str("EMAIL_HOST", "")
+EMAIL_PORT = env_int("EMAIL_PORT", 587, minimum=1)
+EMAIL_HOST_USER = env_str("EMAIL_HOST_USER", "")
+EMAIL_HOST_PASSWORD = env_secret("EMAIL_HOST_PASSWORD") or ""
+EMAIL_USE_TLS = env_bool("EMAIL_USE_TLS", default=True)
+EMAIL_BACKEND = (
+    "django.core.mail.backends.smtp.EmailBackend" if EMAIL_HOST
+    else "django.core.mail.backends.console.EmailBackend"
+)
+DEFAULT_FROM_EMAIL = env_str("DEFAULT_FROM_EMAIL", "beamkeeper@localhost")
+SERVER_EMAIL = DEFAULT_FROM_EMAIL
+
+if PRODUCTION:
+    SECURE_SSL_REDIRECT = env_bool("SECURE_SSL_REDIRECT", default=True)
+    SESSION_COOKIE_SECURE = True
+    CSRF_COOKIE_SECURE = True
+    SECURE_HSTS_SECONDS = env_int("SECURE_HSTS_SECONDS", 31_536_000, minimum=0)
+    SECURE_HSTS_INCLUDE_SUBDOMAINS = env_bool("SECURE_HSTS_INCLUDE_SUBDOMAINS", default=True)
+    SECURE_HSTS_PRELOAD = env_bool("SECURE_HSTS_PRELOAD", default=True)
+    if env_bool("SECURE_PROXY_SSL_HEADER", default=False):
+        # Only behind a proxy that sets this header itself and strips it from clients.
+        SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
