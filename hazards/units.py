@@ -121,3 +121,17 @@ def format_si(value: float, unit: str, digits: int = 4) -> str:
         if abs(value) >= candidate_scale * 0.9999999:
             scale, prefix = candidate_scale, candidate_prefix
     return f"{value / scale:.{digits}g} {prefix}{unit}"
+
+
+def format_for_input(value: float, unit: str, *, display_unit: str | None = None, digits: int = 15) -> str:
+    """Show an SI value the way a person types it back: "532 nm", "2.3 mm", "0.5 mrad".
+
+    ``display_unit`` fixes the unit shown (divergences read best in mrad whatever their
+    size); without it a metric prefix is chosen as in format_si. Fifteen significant
+    digits mean that reading the text back with parse_quantity returns the stored float
+    to within rounding noise, so a form saved unchanged does not alter the value.
+    """
+    if display_unit is None:
+        return format_si(value, unit, digits=digits)
+    scale = float(ureg.Quantity(1.0, _unit(display_unit)).to(unit).magnitude)
+    return f"{value / scale:.{digits}g} {display_unit}"

@@ -13,10 +13,13 @@ from django.core.exceptions import PermissionDenied, ValidationError
 from django.db.models import QuerySet
 from django.forms import BaseModelForm
 from django.http import HttpRequest
+from django.utils.html import format_html, format_html_join
 from django.utils.translation import gettext_lazy as _
 from simple_history.admin import SimpleHistoryAdmin
 
+from hazards.units import format_si
 from registry import selectors, services
+from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm
 from registry.services.hazards import hazard_results_refresh
 from registry.models import (
     SOP,
@@ -36,6 +39,7 @@ from registry.models import (
     SOPAcknowledgement,
     TrainingRecord,
 )
+from registry.templatetags import hazard_figures
 
 
 def _run_for_each(admin_view: admin.ModelAdmin, request: HttpRequest, queryset: QuerySet[Any], action: Any,
@@ -89,13 +93,19 @@ class PersonAdmin(SimpleHistoryAdmin):
 
 @admin.register(Location)
 class LocationAdmin(SimpleHistoryAdmin):
-    list_display = ["code", "building", "room", "name", "is_controlled_area", "interlock", "longest_dimension_m"]
+    form = LocationForm
+    list_display = ["code", "building", "room", "name", "is_controlled_area", "interlock", "longest_dimension"]
     list_filter = ["site", "building", "is_controlled_area", "interlock"]
     search_fields = ["code", "building", "room", "name"]
+
+    @admin.display(description=_("longest room dimension"), ordering="longest_dimension_m")
+    def longest_dimension(self, location: Location) -> str:
+        return hazard_figures.distance(location.longest_dimension_m) if location.longest_dimension_m else "-"
 
 
 class EmissionInline(admin.StackedInline):
     model = Emission
+    form = EmissionForm
     extra = 0
     fields = [
         "label", ("wavelength_m", "wavelength_max_m"), "temporal_mode",
@@ -146,11 +156,40 @@ class LaserAdmin(RetainedAdmin):
 
 @admin.register(Emission)
 class EmissionAdmin(SimpleHistoryAdmin):
-    list_display = ["__str__", "label", "wavelength_m", "temporal_mode", "average_power_W", "pulse_energy_J"]
+    form = EmissionForm
+    list_display = ["__str__", "label", "temporal_mode", "average_power", "pulse_energy"]
     list_filter = ["temporal_mode", "laser__labelled_class"]
     search_fields = ["laser__asset_tag", "label"]
     list_select_related = ["laser"]
     autocomplete_fields = ["laser"]
+    readonly_fields = ["hazard_summary"]
+
+    @admin.display(description=_("average power"), ordering="average_power_W")
+    def average_power(self, emission: Emission) -> str:
+        return format_si(emission.average_power_W, "W") if emission.average_power_W is not None else "-"
+
+    @admin.display(description=_("pulse energy"), ordering="pulse_energy_J")
+    def pulse_energy(self, emission: Emission) -> str:
+        return format_si(emission.pulse_energy_J, "J") if emission.pulse_energy_J is not None else "-"
+
+    @admin.display(description=_("hazard results"))
+    def hazard_summary(self, emission: Emission) -> str:
+        """One line per limit set; the full figures and working are on each result's page."""
+        if emission.pk is None:
+            return _("Computed when the emission is saved.")
+        results = emission.hazard_results.all()
+        if not results:
+            return _("Not assessed: the engine needs the beam diameter and divergence, and a consistent set "
+                     "of pulse parameters.")
+        return format_html_join(
+            "", "<p>{}: NOHD {}, {}, EN 207 {}, eye MPE {} (engine {})</p>",
+            ((hazard_figures.limit_set_title(result.limits),
+              hazard_figures.distance(result.nohd_m, result.nohd_unbounded),
+              hazard_figures.optical_density(result.od_required),
+              hazard_figures.en207_marking(result.en207_marking),
+              hazard_figures.mpe(result.eye_mpe_J_m2, result.eye_mpe_W_m2, result.exposure_s),
+              result.engine_version) for result in results),
+        )
 
     def save_model(self, request: HttpRequest, obj: Emission, form: BaseModelForm, change: bool) -> None:
         super().save_model(request, obj, form, change)
@@ -159,18 +198,72 @@ class EmissionAdmin(SimpleHistoryAdmin):
 
 @admin.register(HazardResult)
 class HazardResultAdmin(SimpleHistoryAdmin):
-    list_display = ["emission", "limits", "exposure_s", "nohd_m", "nohd_unbounded", "od_required", "en207_marking",
-                    "engine_version", "computed_at"]
+    """Every figure with its unit and basis; the stored floats stay in the database and the API."""
+
+    list_display = ["emission", "limit_set", "nohd", "optical_density", "en207", "eye_mpe", "engine_version",
+                    "computed_at"]
     list_filter = ["limits", "nohd_unbounded", "emission__laser__labelled_class"]
     search_fields = ["emission__laser__asset_tag"]
     list_select_related = ["emission__laser"]
-
-    def get_readonly_fields(self, request: HttpRequest, obj: Any = None) -> list[str]:
-        # Results come from the engine only; editing one by hand would defeat its working.
-        return [field.name for field in HazardResult._meta.fields]
+    fieldsets = [
+        (None, {"fields": ["emission", "limit_set", "engine_version", "computed_at"]}),
+        (_("Figures"), {"fields": ["eye_mpe", "skin_mpe", "nohd", "diffuse_hazard_distance", "skin_hazard_distance",
+                                   "optical_density", "en207"]}),
+        (_("Working and warnings"), {"fields": ["warnings_text", "working_text"]}),
+    ]
+    readonly_fields = ["emission", "limit_set", "engine_version", "computed_at", "eye_mpe", "skin_mpe", "nohd",
+                       "diffuse_hazard_distance", "skin_hazard_distance", "optical_density", "en207",
+                       "warnings_text", "working_text"]
 
     def has_add_permission(self, request: HttpRequest) -> bool:
         return False
+
+    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        # Results come from the engine only; editing one by hand would defeat its working.
+        return False
+
+    @admin.display(description=_("limit set"), ordering="limits")
+    def limit_set(self, result: HazardResult) -> str:
+        return hazard_figures.limit_set_title(result.limits)
+
+    @admin.display(description=_("NOHD"), ordering="nohd_m")
+    def nohd(self, result: HazardResult) -> str:
+        return hazard_figures.distance(result.nohd_m, result.nohd_unbounded)
+
+    @admin.display(description=_("diffuse-reflection hazard distance"))
+    def diffuse_hazard_distance(self, result: HazardResult) -> str:
+        return hazard_figures.distance(result.diffuse_hazard_distance_m)
+
+    @admin.display(description=_("skin hazard distance"))
+    def skin_hazard_distance(self, result: HazardResult) -> str:
+        return hazard_figures.distance(result.skin_hazard_distance_m)
+
+    @admin.display(description=_("required optical density"), ordering="od_required")
+    def optical_density(self, result: HazardResult) -> str:
+        return hazard_figures.optical_density(
+            result.od_required, hazard_figures.exact_optical_density(result.working, result.od_required))
+
+    @admin.display(description=_("EN 207 marking"), ordering="en207_marking")
+    def en207(self, result: HazardResult) -> str:
+        return hazard_figures.en207_marking(result.en207_marking)
+
+    @admin.display(description=_("eye MPE"))
+    def eye_mpe(self, result: HazardResult) -> str:
+        return hazard_figures.mpe(result.eye_mpe_J_m2, result.eye_mpe_W_m2, result.exposure_s)
+
+    @admin.display(description=_("skin MPE"))
+    def skin_mpe(self, result: HazardResult) -> str:
+        return hazard_figures.mpe(result.skin_mpe_J_m2, result.skin_mpe_W_m2, result.skin_exposure_s)
+
+    @admin.display(description=_("warnings"))
+    def warnings_text(self, result: HazardResult) -> str:
+        if not result.warnings:
+            return _("none")
+        return format_html_join("", "<p>{}</p>", ((warning,) for warning in result.warnings))
+
+    @admin.display(description=_("working"))
+    def working_text(self, result: HazardResult) -> str:
+        return format_html("<pre class=\"hazard-working\">{}</pre>", hazard_figures.working_text(result.working))
 
 
 @admin.register(TrainingRecord)
@@ -231,11 +324,13 @@ class SOPAcknowledgementAdmin(RetainedAdmin):
 
 class EyewearMarkingInline(admin.TabularInline):
     model = EyewearMarking
+    form = EyewearMarkingForm
     extra = 0
 
 
 @admin.register(EyewearMarking)
 class EyewearMarkingAdmin(SimpleHistoryAdmin):
+    form = EyewearMarkingForm
     list_display = ["eyewear", "__str__", "optical_density", "en207_conditions", "en207_scale"]
     list_filter = ["en207_scale", "eyewear__location"]
     search_fields = ["eyewear__inventory_tag"]

@@ -1,0 +1,108 @@
+"""Hazard figures as a person reads them: each with its unit, basis and source.
+
+The filters are used by templates and by the admin's display methods alike, so a figure
+reads the same wherever it is shown. A missing figure reads as "not computed" rather
+than as an empty cell, which could be taken for "no hazard".
+"""
+from __future__ import annotations
+
+from django import template
+from django.utils.translation import gettext as _
+
+from hazards.limits import CAUTION
+from hazards.limits.limit_set import load_limit_set
+from hazards.units import format_si
+from hazards.working import Step, StepDict, Working
+
+register = template.Library()
+
+NOT_COMPUTED = "not computed"
+
+# The engine's caution, extended for the register, whose figures rest on what was typed in.
+HAZARD_CAUTION = (f"{CAUTION.removesuffix('.')}, and licensed practice. Check every input against the laser's "
+                  "data sheet before relying on a figure.")
+
+
+@register.simple_tag
+def hazard_caution() -> str:
+    return HAZARD_CAUTION
+
+
+@register.filter
+def distance(metres: float | None, unbounded: bool = False) -> str:
+    """A hazard distance to three significant figures: "517 m", "1.41 km", "0 m"."""
+    if unbounded:
+        return _("unbounded (the collimated beam stays above the MPE at any distance)")
+    if metres is None:
+        return NOT_COMPUTED
+    if metres == 0:
+        return "0 m"
+    return format_si(metres, "m", digits=3)
+
+
+@register.filter
+def duration(seconds: float | None) -> str:
+    """An exposure duration: "0.25 s", "10 s", "30000 s" (prefixes only below a second)."""
+    if seconds is None:
+        return NOT_COMPUTED
+    return f"{seconds:g} s" if seconds >= 1e-3 else format_si(seconds, "s", digits=3)
+
+
+@register.filter
+def optical_density(required: float | None, exact: float | None = None) -> str:
+    """The OD eyewear must reach, with the unrounded value it was rounded up from."""
+    if required is None:
+        return NOT_COMPUTED
+    shown = f"OD {required:g}"
+    return shown if exact is None else f"{shown} (exact {exact:.3g})"
+
+
+def mpe(radiant_exposure_J_m2: float | None, irradiance_W_m2: float | None, exposure_s: float | None) -> str:
+    """An MPE as both radiant exposure and irradiance, over the duration it assumes."""
+    if radiant_exposure_J_m2 is None or irradiance_W_m2 is None:
+        return NOT_COMPUTED
+    return (f"{radiant_exposure_J_m2:.3g} J/m\u00b2 = {irradiance_W_m2:.3g} W/m\u00b2 "
+            f"over {duration(exposure_s)}")
+
+
+@register.filter
+def limit_set_title(name: str) -> str:
+    """The limit set's published title with its short name: "ICNIRP 2013 ... (icnirp2013)"."""
+    try:
+        return f"{load_limit_set(name).title} ({name})"
+    except FileNotFoundError:
+        # A result from a limit set since removed still shows what it was computed under.
+        return name
+
+
+@register.filter
+def en207_marking(marking: str) -> str:
+    return marking or _("no EN 207 rating applies")
+
+
+def working_steps(working: list[StepDict]) -> Working:
+    return Working(steps=[Step(what=step["what"], formula=step["formula"], value=step["value"],
+                               unit=step["unit"], source=step["source"], inputs=dict(step["inputs"]))
+                          for step in working])
+
+
+@register.filter
+def working_text(working: list[StepDict]) -> str:
+    """The stored working as numbered lines: what, formula, inputs, value, unit [source]."""
+    if not working:
+        return _("no working stored")
+    return working_steps(working).as_text()
+
+
+def exact_optical_density(working: list[StepDict], required: float | None) -> float | None:
+    """The unrounded OD from the working, when it is the one ``required`` was rounded up from.
+
+    For a tunable range the stored OD may come from another wavelength than the working;
+    then no exact value is claimed.
+    """
+    for step in working:
+        if step["what"] == "required optical density" and isinstance(step["value"], (int, float)):
+            rounded = step["inputs"].get("rounded_up")
+            if required is not None and isinstance(rounded, (int, float)) and float(rounded) == required:
+                return float(step["value"])
+    return None
