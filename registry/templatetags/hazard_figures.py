@@ -9,7 +9,6 @@ from __future__ import annotations
 from django import template
 from django.utils.translation import gettext as _
 
-from hazards.limits import CAUTION
 from hazards.limits.limit_set import load_limit_set
 from hazards.units import format_si
 from hazards.working import Step, StepDict, Working
@@ -18,9 +17,11 @@ register = template.Library()
 
 NOT_COMPUTED = "not computed"
 
-# The engine's caution, extended for the register, whose figures rest on what was typed in.
-HAZARD_CAUTION = (f"{CAUTION.removesuffix('.')}, and licensed practice. Check every input against the laser's "
-                  "data sheet before relying on a figure.")
+# The engine's caution (hazards.limits.CAUTION) widened for the register, whose figures
+# rest on what someone typed in from a data sheet.
+HAZARD_CAUTION = ("These figures support, and never replace, the judgement of the laser safety officer, the local "
+                  "regulations and licensed practice. Check every input against the laser's data sheet before "
+                  "relying on a figure.")
 
 
 @register.simple_tag
