@@ -200,7 +200,8 @@ class EmissionAdmin(SimpleHistoryAdmin):
 class HazardResultAdmin(SimpleHistoryAdmin):
     """Every figure with its unit and basis; the stored floats stay in the database and the API."""
 
-    list_display = ["emission", "limit_set", "nohd", "optical_density", "en207", "eye_mpe", "engine_version",
+    # The short limit-set name keeps the list readable; the page of each result gives the title.
+    list_display = ["emission", "limits", "nohd", "optical_density", "en207", "eye_mpe", "engine_version",
                     "computed_at"]
     list_filter = ["limits", "nohd_unbounded", "emission__laser__labelled_class"]
     search_fields = ["emission__laser__asset_tag"]

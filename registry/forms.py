@@ -10,6 +10,7 @@ import math
 from typing import Any
 
 from django import forms
+from django.utils.text import capfirst
 from django.utils.translation import gettext_lazy as _
 
 from hazards.errors import InputError
@@ -39,7 +40,7 @@ class QuantityField(forms.Field):
         self.minimum = minimum
         self.maximum = maximum
         self.inclusive_minimum = inclusive_minimum
-        kwargs.setdefault("label", name)
+        kwargs.setdefault("label", capfirst(name))
         super().__init__(**kwargs)
 
     def prepare_value(self, value: Any) -> Any:

@@ -58,11 +58,17 @@ def optical_density(required: float | None, exact: float | None = None) -> str:
     return shown if exact is None else f"{shown} (exact {exact:.3g})"
 
 
+def _number(value: float) -> str:
+    """Three significant figures, in plain digits between 0.001 and 100 000: 19600, not 1.96e+04."""
+    rounded = float(f"{value:.3g}")
+    return f"{rounded:g}" if 1e-3 <= abs(rounded) < 1e5 else f"{rounded:.3g}"
+
+
 def mpe(radiant_exposure_J_m2: float | None, irradiance_W_m2: float | None, exposure_s: float | None) -> str:
     """An MPE as both radiant exposure and irradiance, over the duration it assumes."""
     if radiant_exposure_J_m2 is None or irradiance_W_m2 is None:
         return NOT_COMPUTED
-    return (f"{radiant_exposure_J_m2:.3g} J/m\u00b2 = {irradiance_W_m2:.3g} W/m\u00b2 "
+    return (f"{_number(radiant_exposure_J_m2)} J/m\u00b2 = {_number(irradiance_W_m2)} W/m\u00b2 "
             f"over {duration(exposure_s)}")
 
 

@@ -249,7 +249,7 @@ def test_the_result_list_shows_distances_with_units_and_the_caution(lso_client: 
     assert "1.41 km" in html
     assert "unbounded" in html
     assert "OD 3" in html and "D LB3" in html
-    assert "ICNIRP 2013 guidelines on limits of exposure to laser radiation (icnirp2013)" in html
+    assert "eu2006" in html
     assert "6.4 J/m\u00b2 = 25.6 W/m\u00b2 over 0.25 s" in html
     assert escape(HAZARD_CAUTION) in html
 
@@ -277,6 +277,7 @@ def test_the_result_page_shows_figures_working_and_caution_for_a_computed_emissi
     assert f"OD {math.ceil(exact_od)} (exact {exact_od:.3g})" in html
     assert "required optical density: OD = log10(exposure / MPE)" in html
     assert "[EN 207 Annex B" in html
+    assert "ICNIRP 2013 guidelines on limits of exposure to laser radiation (icnirp2013)" in html
     assert result.engine_version in html
     assert escape(HAZARD_CAUTION) in html
     assert 'name="nohd_m"' not in html  # figures are read-only
@@ -284,8 +285,12 @@ def test_the_result_page_shows_figures_working_and_caution_for_a_computed_emissi
 
 @pytest.mark.django_db
 def test_the_emission_page_shows_its_results_with_the_caution(lso_client: Client) -> None:
-    result = factories.HazardResultFactory.create(nohd_m=31.6, od_required=2.0)
+    result = factories.HazardResultFactory.create(nohd_m=31.6, od_required=2.0, skin_exposure_s=10.0,
+                                                  skin_mpe_J_m2=2000 * 10.0, skin_mpe_W_m2=2000.0)
     response = lso_client.get(reverse("admin:registry_emission_change", args=[result.emission.pk]))
     html = response.content.decode()
     assert "NOHD 31.6 m, OD 2" in html
     assert escape(HAZARD_CAUTION) in html
+    detail = lso_client.get(reverse("admin:registry_hazardresult_change", args=[result.pk])).content.decode()
+    # ICNIRP 2013 skin limit 400-1400 nm, 10 s - 30 ks: E = 2000 W/m^2 C_A, shown in plain digits.
+    assert "20000 J/m\u00b2 = 2000 W/m\u00b2 over 10 s" in detail
