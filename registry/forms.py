@@ -10,6 +10,7 @@ import math
 from typing import Any
 
 from django import forms
+from django.utils.functional import Promise
 from django.utils.text import capfirst
 from django.utils.translation import gettext_lazy as _
 
@@ -32,7 +33,7 @@ class QuantityField(forms.Field):
 
     widget = forms.TextInput
 
-    def __init__(self, *, name: str, unit: str, display_unit: str | None = None, minimum: float | None = None,
+    def __init__(self, *, name: str | Promise, unit: str, display_unit: str | None = None, minimum: float | None = None,
                  maximum: float | None = None, inclusive_minimum: bool = True, **kwargs: Any) -> None:
         self.name = name
         self.unit = unit
@@ -53,7 +54,7 @@ class QuantityField(forms.Field):
         if value is None or (isinstance(value, str) and not value.strip()):
             return None
         try:
-            return parse_quantity(value, field=self.name, unit=self.unit, minimum=self.minimum,
+            return parse_quantity(value, field=str(self.name), unit=self.unit, minimum=self.minimum,
                                   maximum=self.maximum, inclusive_minimum=self.inclusive_minimum)
         except InputError as error:
             raise forms.ValidationError(str(error), code="invalid_quantity") from None
@@ -68,11 +69,11 @@ class QuantityField(forms.Field):
         return not math.isclose(float(initial), typed, rel_tol=_SAME_VALUE_RELATIVE, abs_tol=0.0)
 
 
-def _length(name: str, help_text: str, *, required: bool = False, **limits: Any) -> QuantityField:
+def _length(name: str | Promise, help_text: str | Promise, *, required: bool = False, **limits: Any) -> QuantityField:
     return QuantityField(name=name, unit="m", required=required, help_text=help_text, **limits)
 
 
-def _wavelength(name: str, *, required: bool) -> QuantityField:
+def _wavelength(name: str | Promise, *, required: bool) -> QuantityField:
     return QuantityField(name=name, unit="m", display_unit="nm", minimum=MIN_WAVELENGTH_M, maximum=MAX_WAVELENGTH_M,
                          required=required,
                          help_text=_("e.g. '532 nm' or '10.6 um'; a bare number is in metres. 180 nm to 1 mm."))
