@@ -116,6 +116,8 @@ def format_si(value: float, unit: str, digits: int = 4) -> str:
     """Format an SI value with a metric prefix: format_si(5.32e-7, "m") -> "532 nm"."""
     if value == 0 or not math.isfinite(value) or unit not in {"m", "s", "W", "J", "rad", "Hz"}:
         return f"{value:.{digits}g} {unit}"
+    # Rounded first, so that 999.96 m at 4 digits reads "1 km" rather than "1000 m" or "1e+03 m".
+    value = float(f"{value:.{digits}g}")
     scale, prefix = _PREFIXES[0]
     for candidate_scale, candidate_prefix in _PREFIXES:
         if abs(value) >= candidate_scale * 0.9999999:

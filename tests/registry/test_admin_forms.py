@@ -12,9 +12,11 @@ from django.urls import reverse
 from django.utils.html import escape
 
 from hazards.units import format_for_input
+from hazards.working import StepDict
 from registry.forms import QuantityField
 from registry.models import Emission, HazardResult
 from registry.services import person_create
+from registry.templatetags import hazard_figures
 from registry.templatetags.hazard_figures import HAZARD_CAUTION
 from tests import factories
 
@@ -27,7 +29,7 @@ DIVERGENCE = QuantityField(name="full-angle divergence", unit="rad", display_uni
                            required=False)
 DIAMETER = QuantityField(name="beam diameter", unit="m", minimum=0.0, inclusive_minimum=False, required=False)
 
-ACCEPTED: list[tuple[QuantityField, object, float]] = [
+ACCEPTED: list[tuple[QuantityField, object, float | None]] = [
     (WAVELENGTH, "532 nm", 532e-9),
     (WAVELENGTH, "532nm", 532e-9),
     (WAVELENGTH, "1.064 um", 1.064e-6),
@@ -107,6 +109,41 @@ def test_a_shown_value_reads_back_as_the_stored_float(stored: float, unit: str) 
     assert math.isclose(field.clean(shown), stored, rel_tol=1e-13)
     assert field.has_changed(stored, shown) is False
     assert field.has_changed(stored, format_for_input(stored * 1.001, unit)) is True
+
+
+# Display rules of the register (common practice, no source): three significant figures
+# for distances, with a metric prefix; "unbounded" where no distance exists.
+@pytest.mark.parametrize(("metres", "unbounded", "shown"), [
+    (517.4702918042527, False, "517 m"),
+    (1410.3, False, "1.41 km"),
+    (999.6, False, "1 km"),
+    (0.1104, False, "110 mm"),
+    (0.0, False, "0 m"),
+    (None, False, "not computed"),
+    (None, True, "unbounded (the collimated beam stays above the MPE at any distance)"),
+])
+def test_distances_read_with_three_figures_and_a_unit(metres: float | None, unbounded: bool, shown: str) -> None:
+    assert hazard_figures.distance(metres, unbounded) == shown
+
+
+@pytest.mark.parametrize(("seconds", "shown"), [(0.25, "0.25 s"), (10.0, "10 s"), (3.0e4, "30000 s"),
+                                                (1e-8, "10 ns"), (None, "not computed")])
+def test_exposure_durations_read_in_seconds(seconds: float | None, shown: str) -> None:
+    assert hazard_figures.duration(seconds) == shown
+
+
+def test_the_working_reads_as_numbered_lines_with_units_and_sources() -> None:
+    working: list[StepDict] = [{"what": "eye MPE", "formula": "H = 18 * t^0.75", "inputs": {"t": 0.25}, "value": 6.364,
+                "unit": "J/m^2", "source": "ICNIRP 2013"},
+               {"what": "required optical density", "formula": "OD = log10(exposure / MPE), rounded up",
+                "inputs": {"rounded_up": 2}, "value": 1.009, "unit": "", "source": "EN 207 Annex B"}]
+    assert hazard_figures.working_text(working) == (
+        "1. eye MPE: H = 18 * t^0.75 with t = 0.25 -> 6.364 J/m^2  [ICNIRP 2013]\n"
+        "2. required optical density: OD = log10(exposure / MPE), rounded up with rounded_up = 2 -> 1.009  "
+        "[EN 207 Annex B]")
+    assert hazard_figures.exact_optical_density(working, 2.0) == 1.009
+    # A stored OD from another wavelength of a tunable range claims no exact value.
+    assert hazard_figures.exact_optical_density(working, 3.0) is None
 
 
 @pytest.fixture
