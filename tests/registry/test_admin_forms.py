@@ -240,6 +240,20 @@ def test_the_emission_inline_on_the_laser_shows_units_and_takes_them(lso_client:
 
 
 @pytest.mark.django_db
+def test_the_laser_page_saved_unchanged_leaves_its_emissions_alone(lso_client: Client) -> None:
+    emission = factories.EmissionFactory.create(wavelength_m=1.0642e-6, average_power_W=1 / 3,
+                                                beam_diameter_m=2.718281828459045e-4, divergence_rad=1.23e-4)
+    history_rows = emission.history.count()
+    url = reverse("admin:registry_laser_change", args=[emission.laser.pk])
+    response = lso_client.post(url, _bound_data(lso_client.get(url)))
+    assert response.status_code == 302
+    emission.refresh_from_db()
+    assert (emission.wavelength_m, emission.average_power_W, emission.beam_diameter_m, emission.divergence_rad) == (
+        1.0642e-6, 1 / 3, 2.718281828459045e-4, 1.23e-4)
+    assert emission.history.count() == history_rows
+
+
+@pytest.mark.django_db
 def test_a_bad_value_in_the_inline_is_shown_on_its_field(lso_client: Client) -> None:
     emission = factories.EmissionFactory.create()
     url = reverse("admin:registry_laser_change", args=[emission.laser.pk])
