@@ -187,8 +187,7 @@ class EmissionAdmin(SimpleHistoryAdmin):
               hazard_figures.distance(result.nohd_m, result.nohd_unbounded),
               hazard_figures.optical_density(result.od_required),
               hazard_figures.en207_marking(result.en207_marking),
-              hazard_figures.mpe(result.eye_mpe_J_m2, result.eye_mpe_W_m2, result.exposure_s),
-              result.engine_version) for result in results),
+              hazard_figures.eye_mpe(result), result.engine_version) for result in results),
         )
 
     def save_model(self, request: HttpRequest, obj: Emission, form: BaseModelForm, change: bool) -> None:
@@ -250,7 +249,7 @@ class HazardResultAdmin(SimpleHistoryAdmin):
 
     @admin.display(description=_("eye MPE"))
     def eye_mpe(self, result: HazardResult) -> str:
-        return hazard_figures.mpe(result.eye_mpe_J_m2, result.eye_mpe_W_m2, result.exposure_s)
+        return hazard_figures.eye_mpe(result)
 
     @admin.display(description=_("skin MPE"))
     def skin_mpe(self, result: HazardResult) -> str:

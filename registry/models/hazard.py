@@ -26,6 +26,14 @@ class HazardResult(TimestampedModel):
                                    help_text=_("The exposure duration the eye MPE assumes."))
     eye_mpe_J_m2 = models.FloatField(_("eye MPE, radiant exposure (J/m\u00b2)"))
     eye_mpe_W_m2 = models.FloatField(_("eye MPE, irradiance (W/m\u00b2)"))
+    eye_mpe_per_pulse_J_m2 = models.FloatField(
+        _("eye MPE per pulse (J/m\u00b2)"), null=True, blank=True,
+        help_text=_("For pulsed emissions: the limit one pulse is compared with (the governing pulse rule). "
+                    "Empty for continuous wave."))
+    pulse_rule = models.CharField(
+        _("governing pulse rule"), max_length=40, blank=True,
+        help_text=_("Which rule gives the eye limit: e.g. 'continuous wave', 'single_pulse', 'average_power', "
+                    "'reduced_single_pulse'."))
     skin_exposure_s = models.FloatField(_("skin exposure duration (s)"), null=True, blank=True)
     skin_mpe_J_m2 = models.FloatField(_("skin MPE, radiant exposure (J/m\u00b2)"), null=True, blank=True)
     skin_mpe_W_m2 = models.FloatField(_("skin MPE, irradiance (W/m\u00b2)"), null=True, blank=True)
@@ -54,6 +62,11 @@ class HazardResult(TimestampedModel):
             models.CheckConstraint(condition=models.Q(eye_mpe_J_m2__gt=0, eye_mpe_W_m2__gt=0),
                                    name="registry_hazardresult_eye_mpe_positive",
                 violation_error_message=_("The eye MPE must be greater than 0.")),
+            models.CheckConstraint(
+                condition=models.Q(eye_mpe_per_pulse_J_m2__isnull=True) | models.Q(eye_mpe_per_pulse_J_m2__gt=0),
+                name="registry_hazardresult_per_pulse_mpe_positive",
+                violation_error_message=_("The per-pulse eye MPE must be greater than 0."),
+            ),
             models.CheckConstraint(
                 condition=models.Q(nohd_m__isnull=True) | models.Q(nohd_m__gte=0),
                 name="registry_hazardresult_nohd_not_negative",

@@ -155,6 +155,8 @@ def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
         "exposure_s": assessment.exposure_s,
         "eye_mpe_J_m2": float(eye["radiant_exposure_J_m2"]),
         "eye_mpe_W_m2": float(eye["irradiance_W_m2"]),
+        "eye_mpe_per_pulse_J_m2": None if assessment.beam.mode == "continuous" else assessment.eye.limit,
+        "pulse_rule": assessment.eye.governing,
         "skin_exposure_s": assessment.skin.duration_s,
         "skin_mpe_J_m2": _finite(skin.get("radiant_exposure_J_m2")),
         "skin_mpe_W_m2": _finite(skin.get("irradiance_W_m2")),

@@ -12,6 +12,7 @@ from django.utils.translation import gettext as _
 from hazards.limits.limit_set import load_limit_set
 from hazards.units import format_si
 from hazards.working import Step, StepDict, Working
+from registry.models import HazardResult
 
 register = template.Library()
 
@@ -70,6 +71,16 @@ def mpe(radiant_exposure_J_m2: float | None, irradiance_W_m2: float | None, expo
         return NOT_COMPUTED
     return (f"{_number(radiant_exposure_J_m2)} J/m\u00b2 = {_number(irradiance_W_m2)} W/m\u00b2 "
             f"over {duration(exposure_s)}")
+
+
+def eye_mpe(result: HazardResult) -> str:
+    """The eye MPE as stored; for pulsed emissions the per-pulse limit that governs comes first,
+    since that is the figure each pulse is compared with."""
+    whole = mpe(result.eye_mpe_J_m2, result.eye_mpe_W_m2, result.exposure_s)
+    if result.eye_mpe_per_pulse_J_m2 is None:
+        return whole
+    rule = result.pulse_rule.replace("_", " ") or _("pulse rule not recorded")
+    return f"{_number(result.eye_mpe_per_pulse_J_m2)} J/m\u00b2 per pulse ({rule}); whole exposure {whole}"
 
 
 @register.filter

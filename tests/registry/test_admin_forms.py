@@ -306,6 +306,15 @@ def test_the_result_list_shows_distances_with_units_and_the_caution(lso_client: 
 
 
 @pytest.mark.django_db
+def test_a_pulsed_result_shows_the_per_pulse_limit_and_its_rule_first(lso_client: Client) -> None:
+    factories.HazardResultFactory.create(eye_mpe_per_pulse_J_m2=0.0158, pulse_rule="reduced_single_pulse",
+                                         eye_mpe_J_m2=1.58, eye_mpe_W_m2=0.158, exposure_s=10.0)
+    html = lso_client.get(reverse("admin:registry_hazardresult_changelist")).content.decode()
+    assert ("0.0158 J/m\u00b2 per pulse (reduced single pulse); whole exposure 1.58 J/m\u00b2 = 0.158 W/m\u00b2 "
+            "over 10 s") in html
+
+
+@pytest.mark.django_db
 def test_the_result_page_shows_figures_working_and_caution_for_a_computed_emission(lso_client: Client) -> None:
     emission = factories.EmissionFactory.create()  # 532 nm, 10 mW CW, 1 mm and 1 mrad at 1/e^2
     lso_client.post(reverse("admin:registry_emission_change", args=[emission.pk]), _emission_post(

@@ -139,3 +139,25 @@ def test_the_demo_campus_stores_results_for_the_emissions_it_can_assess() -> Non
 def test_every_demo_emission_assesses_without_error() -> None:
     summary = campus_load(data=campus_read())
     assert summary.not_assessed == []
+
+
+def test_a_pulse_train_stores_the_per_pulse_limit_and_the_rule_that_governs(researcher: Person) -> None:
+    laser = factories.LaserFactory.create(labelled_class="4", owner=researcher)
+    emission = emission_create(laser=laser, by=researcher, label="fundamental", wavelength_m="1064 nm",
+                               temporal_mode="q_switched", average_power_W="1 W", pulse_energy_J="100 mJ",
+                               pulse_duration_s="10 ns", prf_Hz="10 Hz", beam_diameter_m="5 mm",
+                               divergence_rad="1 mrad", diameter_definition="1/e2")
+    result = emission.hazard_results.get(limits="eu2006")
+    # Infrared: 10 s exposure (common practice), so N = 10 Hz x 10 s = 100 pulses.
+    assert result.exposure_s == pytest.approx(10)
+    # EU 2006/25/EC Annex II Table 2.2, 1050-1400 nm, 1e-9 to 5e-5 s: H = 5e-2 C_C C_E J/m^2 (C_C = 1 at
+    # 1064 nm, point source); Table 2.6 rule 3: times C_P = N^-0.25 = 100^-0.25. Rule 2 (Table 2.2,
+    # 90 t^0.75 J/m^2 at 10 s, shared by 100 pulses = 5.06 J/m^2) is far less strict.
+    assert result.eye_mpe_per_pulse_J_m2 == pytest.approx(5e-2 * 100 ** -0.25, rel=1e-3)
+    assert result.pulse_rule == "reduced_single_pulse"
+
+
+def test_a_continuous_beam_has_no_per_pulse_limit(researcher: Person) -> None:
+    result = helium_neon(researcher).hazard_results.get(limits="icnirp2013")
+    assert result.eye_mpe_per_pulse_J_m2 is None
+    assert result.pulse_rule == "continuous wave"
