@@ -1,0 +1,42 @@
+"""Token sign-in for scripts and other systems, throttled against password guessing."""
+from __future__ import annotations
+
+from typing import Any
+
+from drf_spectacular.utils import extend_schema
+from rest_framework.authtoken.views import ObtainAuthToken
+from rest_framework.request import Request
+from rest_framework.throttling import ScopedRateThrottle, SimpleRateThrottle
+from rest_framework.views import APIView
+
+
+class SignInUsernameThrottle(SimpleRateThrottle):
+    """Counts attempts per submitted username, so guessing one account's password from many
+    addresses is throttled as well as many guesses from one address."""
+
+    scope = "token-sign-in-username"
+
+    def get_cache_key(self, request: Request, view: APIView) -> str | None:
+        username = request.data.get("username") if hasattr(request.data, "get") else None
+        if not isinstance(username, str) or not username:
+            return None
+        return self.cache_format % {"scope": self.scope, "ident": username.casefold()}
+
+
+class TokenSignInView(ObtainAuthToken):
+    """Exchange a username and password for the account's API token."""
+
+    throttle_classes = [ScopedRateThrottle, SignInUsernameThrottle]
+    throttle_scope = "token-sign-in"
+
+    @extend_schema(
+        summary="Sign in and get an API token",
+        description=(
+            "Send the account's username and password; the answer holds the token to send as "
+            "'Authorization: Token <key>'. Attempts are limited per address and per username "
+            "(429 with Retry-After when exceeded)."
+        ),
+        tags=["sign-in"],
+    )
+    def post(self, request: Request, *args: Any, **kwargs: Any) -> Any:
+        return super().post(request, *args, **kwargs)
