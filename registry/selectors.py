@@ -1,0 +1,136 @@
+"""Reads: querysets with their related rows loaded, and questions the workflows ask.
+
+List selectors return querysets (callers may filter and paginate further) with the
+joins and prefetches their usual display needs, so a page of lasers costs a fixed number
+of queries however many rows it shows.
+"""
+from __future__ import annotations
+
+import datetime
+
+from django.db.models import Prefetch, Q, QuerySet
+from django.utils import timezone
+
+from registry.models import (
+    GENERAL_COURSES,
+    SOP,
+    Audit,
+    Authorization,
+    AuthorizationStatus,
+    Emission,
+    Eyewear,
+    Finding,
+    FindingStatus,
+    HazardResult,
+    Incident,
+    Laser,
+    Person,
+    Role,
+    SOPAcknowledgement,
+    SOPStatus,
+    TrainingRecord,
+)
+
+
+def laser_list() -> QuerySet[Laser]:
+    """Every laser with owner, group, location, emissions and their hazard results."""
+    return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
+        Prefetch("emissions", queryset=emission_list()),
+    )
+
+
+def emission_list() -> QuerySet[Emission]:
+    return Emission.objects.select_related("laser").prefetch_related(
+        Prefetch("hazard_results", queryset=HazardResult.objects.order_by("limits"))
+    )
+
+
+def person_list() -> QuerySet[Person]:
+    return Person.objects.select_related("user", "research_group", "supervisor__user")
+
+
+def people_visible_to(*, viewer: Person) -> QuerySet[Person]:
+    """The people records ``viewer`` may see: everyone for an LSO or inspector, the own
+    research group for a researcher, only themselves for a laser user."""
+    people = person_list()
+    if viewer.role in (Role.LSO, Role.INSPECTOR):
+        return people
+    if viewer.role == Role.RESEARCHER and viewer.research_group_id is not None:
+        return people.filter(Q(research_group_id=viewer.research_group_id) | Q(pk=viewer.pk))
+    return people.filter(pk=viewer.pk)
+
+
+def training_list() -> QuerySet[TrainingRecord]:
+    return TrainingRecord.objects.select_related("person__user", "laser", "verified_by__user")
+
+
+def training_current(*, person: Person, on: datetime.date | None = None) -> QuerySet[TrainingRecord]:
+    """Unretired general or refresher training of ``person`` that is valid on ``on`` (today)."""
+    day = on or timezone.localdate()
+    return training_list().filter(
+        person=person, course__in=GENERAL_COURSES, retired_at__isnull=True, completed_on__lte=day,
+    ).filter(Q(valid_until__isnull=True) | Q(valid_until__gte=day))
+
+
+def training_expiring(*, within_days: int, on: datetime.date | None = None) -> QuerySet[TrainingRecord]:
+    """Unretired records that are still valid on ``on`` but expire within ``within_days``."""
+    day = on or timezone.localdate()
+    return training_list().filter(
+        retired_at__isnull=True, valid_until__gte=day, valid_until__lte=day + datetime.timedelta(days=within_days),
+    )
+
+
+def sop_current(*, laser: Laser) -> SOP | None:
+    """The approved, unretired SOP version in force for ``laser``, if any."""
+    return SOP.objects.filter(laser=laser, status=SOPStatus.APPROVED, retired_at__isnull=True).first()
+
+
+def authorization_list() -> QuerySet[Authorization]:
+    return Authorization.objects.select_related(
+        "person__user", "laser__location", "requested_by__user", "decided_by__user"
+    )
+
+
+def authorization_missing_prerequisites(*, person: Person, laser: Laser,
+                                        on: datetime.date | None = None) -> list[str]:
+    """What stands between ``person`` and an approved authorization on ``laser``; empty when nothing."""
+    missing: list[str] = []
+    if not training_current(person=person, on=on).exists():
+        missing.append(f"{person} has no valid general laser safety training.")
+    sop = sop_current(laser=laser)
+    if sop is None:
+        missing.append(f"{laser.asset_tag} has no approved SOP.")
+    elif not SOPAcknowledgement.objects.filter(sop=sop, person=person, retired_at__isnull=True).exists():
+        missing.append(f"{person} has not acknowledged {sop}.")
+    return missing
+
+
+def authorizations_in_force(*, person: Person, on: datetime.date | None = None) -> QuerySet[Authorization]:
+    day = on or timezone.localdate()
+    return authorization_list().filter(
+        person=person, status=AuthorizationStatus.APPROVED, retired_at__isnull=True,
+    ).filter(Q(valid_until__isnull=True) | Q(valid_until__gte=day))
+
+
+def eyewear_list() -> QuerySet[Eyewear]:
+    return Eyewear.objects.select_related("location").prefetch_related("markings")
+
+
+def audit_list() -> QuerySet[Audit]:
+    return Audit.objects.select_related("location", "auditor__user", "signed_off_by__user").prefetch_related(
+        "lasers", "checklist", Prefetch("findings", queryset=finding_list()),
+    )
+
+
+def finding_list() -> QuerySet[Finding]:
+    return Finding.objects.select_related("audit", "laser", "location", "owner__user", "closed_by__user")
+
+
+def finding_open_list() -> QuerySet[Finding]:
+    return finding_list().filter(status=FindingStatus.OPEN, retired_at__isnull=True)
+
+
+def incident_list() -> QuerySet[Incident]:
+    return Incident.objects.select_related("laser", "location", "reported_by__user").prefetch_related(
+        "people_involved__user"
+    )

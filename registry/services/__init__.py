@@ -1,0 +1,58 @@
+"""Writes to the register, one module per topic. Every service is keyword-only, runs
+full_clean() before save() inside transaction.atomic, and refuses what the workflow does
+not allow with a ValidationError keyed by the field at fault (TransitionError for status
+changes, PrerequisiteError for missing prerequisites) or PermissionDenied for the wrong role.
+"""
+from __future__ import annotations
+
+from registry.services.audits import (
+    audit_answer,
+    audit_plan,
+    audit_sign_off,
+    audit_start,
+    finding_close,
+    finding_raise,
+)
+from registry.services.authorizations import (
+    authorization_approve,
+    authorization_refuse,
+    authorization_request,
+    authorization_revoke,
+    authorization_withdraw,
+)
+from registry.services.errors import PrerequisiteError, TransitionError
+from registry.services.eyewear import eyewear_create, eyewear_inspect, eyewear_set_markings, location_create
+from registry.services.incidents import incident_close, incident_investigate, incident_report
+from registry.services.lasers import (
+    emission_create,
+    emission_update,
+    laser_approve,
+    laser_register,
+    laser_retire,
+    laser_return,
+    laser_set_status,
+    laser_submit,
+    laser_update,
+)
+from registry.services.people import (
+    person_create,
+    person_sync_account,
+    person_set_role,
+    person_update,
+    research_group_create,
+    role_groups_ensure,
+)
+from registry.services.retirement import record_retire
+from registry.services.sops import sop_acknowledge, sop_approve, sop_create
+from registry.services.training import training_record
+
+__all__ = [
+    "audit_answer", "audit_plan", "audit_sign_off", "audit_start", "finding_close", "finding_raise",
+    "authorization_approve", "authorization_refuse", "authorization_request", "authorization_revoke",
+    "authorization_withdraw", "PrerequisiteError", "TransitionError", "eyewear_create", "eyewear_inspect",
+    "eyewear_set_markings", "location_create", "incident_close", "incident_investigate", "incident_report",
+    "emission_create", "emission_update", "laser_approve", "laser_register", "laser_retire", "laser_return",
+    "laser_set_status", "laser_submit", "laser_update", "person_create", "person_sync_account", "person_set_role", "person_update",
+    "research_group_create", "role_groups_ensure", "record_retire", "sop_acknowledge", "sop_approve",
+    "sop_create", "training_record",
+]

@@ -1,0 +1,57 @@
+"""Helpers every service module uses: validated saves, transitions and role checks."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import TypeVar
+
+from django.core.exceptions import PermissionDenied, ValidationError
+from django.db import models
+
+from hazards.errors import InputError
+from hazards.units import parse_quantity
+from registry.models import Person, Role
+from registry.services.errors import TransitionError
+
+ModelT = TypeVar("ModelT", bound=models.Model)
+
+
+def validated_save(instance: ModelT, *, by: Person | None) -> ModelT:
+    """full_clean() (fields and Meta.constraints) then save(), recording ``by`` in the history."""
+    instance.full_clean()
+    if by is not None:
+        # simple-history reads this attribute for the history row's user.
+        instance._history_user = by.user  # type: ignore[attr-defined]
+    instance.save()
+    return instance
+
+
+def require_transition(record: models.Model, *, current: str, target: str,
+                       allowed: Mapping[str, frozenset[str]]) -> None:
+    if target not in allowed.get(current, frozenset()):
+        raise TransitionError(record=record, current=current, target=target, allowed=allowed.get(current, ()))
+
+
+def require_role(by: Person, *roles: Role, action: str) -> None:
+    if by.role not in roles:
+        wanted = " or ".join(str(role.label) for role in roles)
+        raise PermissionDenied(f"Only a {wanted} may {action}; {by} is a {by.get_role_display()}.")
+
+
+def require_text(value: str, *, field: str, what: str) -> str:
+    text = value.strip()
+    if not text:
+        raise ValidationError({field: f"{what} is required."})
+    return text
+
+
+def quantity(value: object, *, field: str, unit: str, **limits: float | bool | None) -> float | None:
+    """A number in ``unit`` or a string with units, as an SI float; None stays None.
+
+    The unit parser's InputError becomes a ValidationError keyed by ``field``.
+    """
+    if value is None or value == "":
+        return None
+    try:
+        return parse_quantity(value, field=field, unit=unit, **limits)  # type: ignore[arg-type]
+    except InputError as error:
+        raise ValidationError({field: error.message}) from None

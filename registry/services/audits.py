@@ -1,0 +1,130 @@
+"""Writes for audits: plan, start, answer the checklist, raise and close findings, sign off."""
+from __future__ import annotations
+
+import datetime
+from collections.abc import Iterable, Sequence
+
+from django.core.exceptions import ValidationError
+from django.db import transaction
+from django.utils import timezone
+
+from registry.models import (
+    Audit,
+    AuditChecklistItem,
+    AuditStatus,
+    ChecklistAnswer,
+    Finding,
+    FindingStatus,
+    Laser,
+    Location,
+    Person,
+    Role,
+)
+from registry.services._common import require_role, require_text, require_transition, validated_save
+
+AUDIT_TRANSITIONS: dict[str, frozenset[str]] = {
+    AuditStatus.PLANNED: frozenset({AuditStatus.IN_PROGRESS}),
+    AuditStatus.IN_PROGRESS: frozenset({AuditStatus.SIGNED_OFF}),
+    AuditStatus.SIGNED_OFF: frozenset(),
+}
+
+FINDING_TRANSITIONS: dict[str, frozenset[str]] = {
+    FindingStatus.OPEN: frozenset({FindingStatus.CLOSED}),
+    FindingStatus.CLOSED: frozenset(),
+}
+
+
+@transaction.atomic
+def audit_plan(
+    *,
+    reference: str,
+    scope: str,
+    auditor: Person,
+    planned_on: datetime.date,
+    by: Person,
+    location: Location | None = None,
+    lasers: Iterable[Laser] = (),
+    site: str = "",
+    questions: Sequence[str] = (),
+) -> Audit:
+    """A planned audit with its checklist questions, in the order given."""
+    require_role(by, Role.LSO, action="plan an audit")
+    audit = validated_save(Audit(reference=reference, scope=scope, auditor=auditor, planned_on=planned_on,
+                                 location=location, site=site), by=by)
+    audit.lasers.set(list(lasers))
+    for position, question in enumerate(questions, start=1):
+        validated_save(AuditChecklistItem(audit=audit, position=position, question=question), by=by)
+    return audit
+
+
+@transaction.atomic
+def audit_start(*, audit: Audit, by: Person, conducted_on: datetime.date | None = None) -> Audit:
+    require_transition(audit, current=audit.status, target=AuditStatus.IN_PROGRESS, allowed=AUDIT_TRANSITIONS)
+    audit.status = AuditStatus.IN_PROGRESS
+    audit.conducted_on = conducted_on or timezone.localdate()
+    return validated_save(audit, by=by)
+
+
+def _require_in_progress(audit: Audit, *, action: str) -> None:
+    if audit.status != AuditStatus.IN_PROGRESS:
+        raise ValidationError({"audit": f"{audit.reference} is {audit.get_status_display()}; "
+                                        f"{action} only while it is in progress."})
+
+
+@transaction.atomic
+def audit_answer(*, item: AuditChecklistItem, answer: str, by: Person, comment: str = "") -> AuditChecklistItem:
+    _require_in_progress(item.audit, action="checklist answers can be given")
+    if answer == ChecklistAnswer.UNANSWERED:
+        raise ValidationError({"answer": "Give an answer: yes, no or n/a."})
+    item.answer = answer
+    item.comment = comment
+    return validated_save(item, by=by)
+
+
+@transaction.atomic
+def finding_raise(
+    *,
+    audit: Audit,
+    severity: str,
+    description: str,
+    owner: Person,
+    by: Person,
+    laser: Laser | None = None,
+    location: Location | None = None,
+    corrective_action: str = "",
+    due_on: datetime.date | None = None,
+) -> Finding:
+    _require_in_progress(audit, action="findings can be raised")
+    finding = Finding(audit=audit, severity=severity, description=description, owner=owner, laser=laser,
+                      location=location, corrective_action=corrective_action, due_on=due_on)
+    return validated_save(finding, by=by)
+
+
+@transaction.atomic
+def finding_close(*, finding: Finding, by: Person, evidence: str, closed_on: datetime.date | None = None) -> Finding:
+    """Close a finding; the evidence (what was done, where it can be checked) is required."""
+    require_transition(finding, current=finding.status, target=FindingStatus.CLOSED, allowed=FINDING_TRANSITIONS)
+    finding.closure_evidence = require_text(evidence, field="closure_evidence", what="Evidence of the correction")
+    finding.status = FindingStatus.CLOSED
+    finding.closed_by = by
+    finding.closed_on = closed_on or timezone.localdate()
+    return validated_save(finding, by=by)
+
+
+@transaction.atomic
+def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
+                   at: datetime.datetime | None = None) -> Audit:
+    """Sign an audit off once every checklist question is answered. Open findings stay
+    open and are followed up on their own."""
+    require_role(by, Role.LSO, action="sign off an audit")
+    require_transition(audit, current=audit.status, target=AuditStatus.SIGNED_OFF, allowed=AUDIT_TRANSITIONS)
+    unanswered = list(audit.checklist.filter(answer=ChecklistAnswer.UNANSWERED).values_list("position", flat=True))
+    if unanswered:
+        raise ValidationError({"checklist": f"{audit.reference} has unanswered checklist items: "
+                                            f"{', '.join(f'#{position}' for position in unanswered)}."})
+    if summary is not None:
+        audit.summary = summary
+    audit.status = AuditStatus.SIGNED_OFF
+    audit.signed_off_by = by
+    audit.signed_off_at = at or timezone.now()
+    return validated_save(audit, by=by)

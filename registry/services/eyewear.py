@@ -1,0 +1,71 @@
+"""Writes for eyewear and its markings, and for locations."""
+from __future__ import annotations
+
+import datetime
+from collections.abc import Iterable
+from typing import Any, TypedDict
+
+from django.db import transaction
+from django.utils import timezone
+
+from registry.models import Eyewear, EyewearMarking, Location, Person
+from registry.services._common import quantity, validated_save
+
+
+class MarkingInput(TypedDict, total=False):
+    """One band of an eyewear marking; wavelengths are metres or strings with units."""
+
+    wavelength_min_m: float | str
+    wavelength_max_m: float | str
+    optical_density: float | None
+    en207_conditions: str
+    en207_scale: int | None
+
+
+def _marking(eyewear: Eyewear, given: MarkingInput) -> EyewearMarking:
+    return EyewearMarking(
+        eyewear=eyewear,
+        wavelength_min_m=quantity(given.get("wavelength_min_m"), field="wavelength_min_m", unit="m"),
+        wavelength_max_m=quantity(given.get("wavelength_max_m"), field="wavelength_max_m", unit="m"),
+        optical_density=given.get("optical_density"),
+        en207_conditions=given.get("en207_conditions", ""),
+        en207_scale=given.get("en207_scale"),
+    )
+
+
+@transaction.atomic
+def eyewear_create(*, inventory_tag: str, location: Location, markings: Iterable[MarkingInput], by: Person | None,
+                   **fields: Any) -> Eyewear:
+    """An eyewear item with its markings. ``fields``: manufacturer, model_name, description,
+    quantity, condition, last_inspected_on."""
+    eyewear = validated_save(Eyewear(inventory_tag=inventory_tag, location=location, **fields), by=by)
+    for given in markings:
+        validated_save(_marking(eyewear, given), by=by)
+    return eyewear
+
+
+@transaction.atomic
+def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], by: Person | None) -> Eyewear:
+    """Replace the item's markings (e.g. after a filter was swapped); history keeps the old ones."""
+    eyewear.markings.all().delete()
+    for given in markings:
+        validated_save(_marking(eyewear, given), by=by)
+    return eyewear
+
+
+@transaction.atomic
+def eyewear_inspect(*, eyewear: Eyewear, by: Person, condition: str,
+                    inspected_on: datetime.date | None = None) -> Eyewear:
+    eyewear.condition = condition
+    eyewear.last_inspected_on = inspected_on or timezone.localdate()
+    return validated_save(eyewear, by=by)
+
+
+@transaction.atomic
+def location_create(*, code: str, site: str, building: str, room: str, by: Person | None, **fields: Any) -> Location:
+    """A room. ``fields``: name, is_controlled_area, interlock, has_warning_light,
+    sign_posted_on, longest_dimension_m (metres or a string with units)."""
+    if "longest_dimension_m" in fields:
+        fields["longest_dimension_m"] = quantity(fields["longest_dimension_m"], field="longest_dimension_m", unit="m",
+                                                 minimum=0.0, inclusive_minimum=False)
+    return validated_save(Location(code=code, site=site, building=building, room=room, **fields), by=by)

@@ -1,0 +1,58 @@
+"""Writes for incidents: report, investigate, close with follow-up."""
+from __future__ import annotations
+
+import datetime
+from collections.abc import Iterable
+
+from django.db import transaction
+from django.utils import timezone
+
+from registry.models import Incident, IncidentStatus, Laser, Location, Person, Role
+from registry.services._common import require_role, require_text, require_transition, validated_save
+
+INCIDENT_TRANSITIONS: dict[str, frozenset[str]] = {
+    IncidentStatus.REPORTED: frozenset({IncidentStatus.INVESTIGATING, IncidentStatus.CLOSED}),
+    IncidentStatus.INVESTIGATING: frozenset({IncidentStatus.CLOSED}),
+    IncidentStatus.CLOSED: frozenset(),
+}
+
+
+@transaction.atomic
+def incident_report(
+    *,
+    reference: str,
+    kind: str,
+    occurred_at: datetime.datetime,
+    description: str,
+    reported_by: Person,
+    laser: Laser | None = None,
+    location: Location | None = None,
+    people_involved: Iterable[Person] = (),
+) -> Incident:
+    incident = validated_save(
+        Incident(reference=reference, kind=kind, occurred_at=occurred_at, description=description,
+                 reported_by=reported_by, laser=laser, location=location),
+        by=reported_by,
+    )
+    incident.people_involved.set(list(people_involved))
+    return incident
+
+
+@transaction.atomic
+def incident_investigate(*, incident: Incident, by: Person) -> Incident:
+    require_role(by, Role.LSO, action="open an incident investigation")
+    require_transition(incident, current=incident.status, target=IncidentStatus.INVESTIGATING,
+                       allowed=INCIDENT_TRANSITIONS)
+    incident.status = IncidentStatus.INVESTIGATING
+    return validated_save(incident, by=by)
+
+
+@transaction.atomic
+def incident_close(*, incident: Incident, by: Person, follow_up: str,
+                   at: datetime.datetime | None = None) -> Incident:
+    require_role(by, Role.LSO, action="close an incident")
+    require_transition(incident, current=incident.status, target=IncidentStatus.CLOSED, allowed=INCIDENT_TRANSITIONS)
+    incident.follow_up = require_text(follow_up, field="follow_up", what="The follow-up")
+    incident.status = IncidentStatus.CLOSED
+    incident.closed_at = at or timezone.now()
+    return validated_save(incident, by=by)

@@ -1,0 +1,160 @@
+"""Writes for lasers and their emissions: registration, review and the status workflow."""
+from __future__ import annotations
+
+import datetime
+from typing import Any
+
+from django.core.exceptions import ValidationError
+from django.db import transaction
+from django.utils import timezone
+
+from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
+
+S = LaserStatus
+
+# The laser workflow. Review: pending review -> active, or returned to the owner who fixes
+# and resubmits. In service: active, in storage and out of service move freely among
+# themselves. Disposed and transferred are final.
+LASER_TRANSITIONS: dict[str, frozenset[str]] = {
+    S.PENDING_REVIEW: frozenset({S.ACTIVE, S.RETURNED}),
+    S.RETURNED: frozenset({S.PENDING_REVIEW}),
+    S.ACTIVE: frozenset({S.IN_STORAGE, S.OUT_OF_SERVICE, S.DISPOSED, S.TRANSFERRED}),
+    S.IN_STORAGE: frozenset({S.ACTIVE, S.OUT_OF_SERVICE, S.DISPOSED, S.TRANSFERRED}),
+    S.OUT_OF_SERVICE: frozenset({S.ACTIVE, S.IN_STORAGE, S.DISPOSED, S.TRANSFERRED}),
+    S.DISPOSED: frozenset(),
+    S.TRANSFERRED: frozenset(),
+}
+
+# Fields a laser's editors may change directly; status, review comments and retirement
+# dates change only through the workflow services below.
+LASER_EDITABLE_FIELDS = frozenset({
+    "manufacturer", "model_name", "serial_number", "laser_type", "gain_medium", "labelled_class",
+    "embedded_class", "owner", "location", "description", "received_on", "commissioned_on",
+})
+
+# Emission inputs that are physical quantities, with the SI unit each is stored in.
+EMISSION_QUANTITIES: dict[str, str] = {
+    "wavelength_m": "m",
+    "wavelength_max_m": "m",
+    "average_power_W": "W",
+    "pulse_energy_J": "J",
+    "pulse_duration_s": "s",
+    "prf_Hz": "Hz",
+    "beam_diameter_m": "m",
+    "divergence_rad": "rad",
+    "source_size_rad": "rad",
+}
+EMISSION_OTHER_FIELDS = frozenset({"label", "temporal_mode", "diameter_definition", "fibre_na", "notes"})
+
+
+def _check_fields(given: dict[str, Any], allowed: frozenset[str], *, what: str) -> None:
+    unknown = sorted(set(given) - allowed)
+    if unknown:
+        raise ValidationError({name: f"{name} is not a field of {what} that can be set here." for name in unknown})
+
+
+@transaction.atomic
+def laser_register(*, by: Person, asset_tag: str, **fields: Any) -> Laser:
+    """A new laser, pending review by an LSO. ``fields`` are LASER_EDITABLE_FIELDS."""
+    _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
+    laser = Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields)
+    return validated_save(laser, by=by)
+
+
+@transaction.atomic
+def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
+    _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
+    for name, value in fields.items():
+        setattr(laser, name, value)
+    return validated_save(laser, by=by)
+
+
+def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
+    require_transition(laser, current=laser.status, target=target, allowed=LASER_TRANSITIONS)
+    laser.status = target
+    laser.status_note = note
+    return validated_save(laser, by=by)
+
+
+@transaction.atomic
+def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
+    """Resubmit a returned registration for review."""
+    return _move(laser, LaserStatus.PENDING_REVIEW, by=by, note=note)
+
+
+@transaction.atomic
+def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
+    """Accept a registration after review; the laser must describe at least one emission."""
+    require_role(by, Role.LSO, action="approve a laser")
+    require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
+    if not laser.emissions.exists():
+        raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
+    laser.review_comments = ""
+    return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
+
+
+@transaction.atomic
+def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
+    """Send a registration back to its owner with what must change."""
+    require_role(by, Role.LSO, action="return a laser registration")
+    laser.review_comments = require_text(comments, field="review_comments", what="A comment for the owner")
+    return _move(laser, LaserStatus.RETURNED, by=by)
+
+
+@transaction.atomic
+def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -> Laser:
+    """Move a laser in service between active, in storage and out of service."""
+    if status in RETIRED_STATUSES:
+        raise ValidationError({"status": "Use laser_retire to dispose of or transfer a laser."})
+    if status in (LaserStatus.PENDING_REVIEW, LaserStatus.RETURNED):
+        raise ValidationError({"status": "Review statuses are set by laser_submit, laser_approve and laser_return."})
+    return _move(laser, status, by=by, note=note)
+
+
+@transaction.atomic
+def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
+                 retired_on: datetime.date | None = None) -> Laser:
+    """Dispose of or transfer a laser; the record and its history stay in the register."""
+    require_role(by, Role.LSO, action="retire a laser")
+    if status not in RETIRED_STATUSES:
+        raise ValidationError({"status": f"A laser retires as {' or '.join(RETIRED_STATUSES)}, not '{status}'."})
+    require_transition(laser, current=laser.status, target=status, allowed=LASER_TRANSITIONS)
+    laser.retired_on = retired_on or timezone.localdate()
+    return _move(laser, status, by=by, note=require_text(reason, field="status_note", what="A reason"))
+
+
+def emission_values(**fields: Any) -> dict[str, Any]:
+    """Emission field values with every quantity converted to its SI float.
+
+    Quantities may be SI numbers or strings with units; a bad one raises a ValidationError
+    keyed by its field name.
+    """
+    _check_fields(fields, frozenset(EMISSION_QUANTITIES) | EMISSION_OTHER_FIELDS, what="an emission")
+    values: dict[str, Any] = {}
+    for name, value in fields.items():
+        if name in EMISSION_QUANTITIES:
+            value = quantity(value, field=name, unit=EMISSION_QUANTITIES[name])
+            if name == "source_size_rad" and value is None:
+                value = 0.0
+        values[name] = value
+    return values
+
+
+def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
+    for name, value in emission_values(**fields).items():
+        setattr(emission, name, value)
+
+
+@transaction.atomic
+def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
+    """Add an emission. Quantities are SI numbers or strings with units ("532 nm", "5 mW")."""
+    emission = Emission(laser=laser)
+    _apply_emission_fields(emission, fields)
+    return validated_save(emission, by=by)
+
+
+@transaction.atomic
+def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
+    _apply_emission_fields(emission, fields)
+    return validated_save(emission, by=by)

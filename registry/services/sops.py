@@ -1,0 +1,62 @@
+"""Writes for SOPs: drafting a version, approving it, acknowledging it."""
+from __future__ import annotations
+
+import datetime
+
+from django.core.exceptions import ValidationError
+from django.core.files.base import File
+from django.db import transaction
+from django.db.models import Max
+from django.utils import timezone
+
+from registry.models import SOP, Laser, Person, Role, SOPAcknowledgement, SOPStatus
+from registry.services._common import require_role, require_transition, validated_save
+
+SOP_TRANSITIONS: dict[str, frozenset[str]] = {
+    SOPStatus.DRAFT: frozenset({SOPStatus.APPROVED}),
+    SOPStatus.APPROVED: frozenset({SOPStatus.SUPERSEDED}),
+    SOPStatus.SUPERSEDED: frozenset(),
+}
+
+
+@transaction.atomic
+def sop_create(*, laser: Laser, title: str, by: Person, summary: str = "", document: File | None = None) -> SOP:
+    """A draft of the next version of ``laser``'s SOP."""
+    # Lock the laser row so two drafts started at once cannot take the same version number.
+    Laser.objects.select_for_update().filter(pk=laser.pk).first()
+    latest = SOP.objects.filter(laser=laser).aggregate(latest=Max("version"))["latest"] or 0
+    sop = SOP(laser=laser, title=title, version=latest + 1, summary=summary)
+    if document is not None:
+        sop.document = document
+    return validated_save(sop, by=by)
+
+
+@transaction.atomic
+def sop_approve(*, sop: SOP, by: Person, review_due: datetime.date | None = None,
+                approved_on: datetime.date | None = None) -> SOP:
+    """Put a draft in force; the version it replaces becomes superseded."""
+    require_role(by, Role.LSO, action="approve an SOP")
+    require_transition(sop, current=sop.status, target=SOPStatus.APPROVED, allowed=SOP_TRANSITIONS)
+    if sop.retired_at is not None:
+        raise ValidationError({"status": f"{sop} is retired and cannot be approved."})
+    for previous in SOP.objects.select_for_update().filter(laser=sop.laser_id, status=SOPStatus.APPROVED):
+        previous.status = SOPStatus.SUPERSEDED
+        validated_save(previous, by=by)
+    sop.status = SOPStatus.APPROVED
+    sop.approved_by = by
+    sop.approved_on = approved_on or timezone.localdate()
+    sop.review_due = review_due
+    return validated_save(sop, by=by)
+
+
+@transaction.atomic
+def sop_acknowledge(*, sop: SOP, person: Person, at: datetime.datetime | None = None) -> SOPAcknowledgement:
+    """``person`` states they have read ``sop``; acknowledging twice keeps the first."""
+    if sop.status != SOPStatus.APPROVED:
+        raise ValidationError({"sop": f"{sop} is {sop.get_status_display()}; only the approved version "
+                                      "can be acknowledged."})
+    existing = SOPAcknowledgement.objects.filter(sop=sop, person=person).first()
+    if existing is not None:
+        return existing
+    acknowledgement = SOPAcknowledgement(sop=sop, person=person, acknowledged_at=at or timezone.now())
+    return validated_save(acknowledgement, by=person)
