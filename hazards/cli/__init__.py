@@ -10,6 +10,7 @@ import argparse
 import sys
 from collections.abc import Sequence
 
+from hazards.cli import assess, limit
 from hazards.errors import InputError
 
 EXIT_BAD_INPUT = 2
@@ -22,7 +23,8 @@ def build_parser() -> argparse.ArgumentParser:
         "replace, the judgement of your laser safety officer and local regulations.",
     )
     subparsers = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
-    del subparsers  # subcommand modules register here
+    limit.register(subparsers)
+    assess.register(subparsers)
     return parser
 
 

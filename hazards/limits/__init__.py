@@ -1,0 +1,30 @@
+"""Exposure limits (MPE) for the eye and the skin under published limit sets.
+
+Limit sets are data files in ``hazards/limits/data/`` (one per edition); the engine selects
+rows from them and shows its working. Every function broadcasts over numpy arrays.
+"""
+from __future__ import annotations
+
+from hazards.limits.exposure import (
+    CAUTION,
+    DEFAULT_LIMITS,
+    LIMIT_SETS,
+    ExposureLimit,
+    default_exposure_duration,
+    exposure_duration_basis,
+    exposure_limit,
+)
+from hazards.limits.pulses import PULSE_RULES, PulseTrainLimit, pulse_train_limit
+
+__all__ = [
+    "CAUTION",
+    "DEFAULT_LIMITS",
+    "LIMIT_SETS",
+    "PULSE_RULES",
+    "ExposureLimit",
+    "PulseTrainLimit",
+    "default_exposure_duration",
+    "exposure_duration_basis",
+    "exposure_limit",
+    "pulse_train_limit",
+]
