@@ -3,8 +3,8 @@
 A policy answers three questions, so that viewsets hold no permission logic:
 
 - which roles may call each action (``rules``; an action not listed is refused),
-- for roles other than the LSO, whether the caller may act on this particular record
-  (``Rule.on_object``: a researcher edits only the lasers they own), and
+- whether the caller may act on this particular record (``Rule.on_object``, for the
+  roles it binds: a researcher edits only the lasers they own), and
 - which records each role can see at all (``scope``; records outside it answer 404,
   so their existence is not disclosed).
 
@@ -49,10 +49,14 @@ def person_of(user: Any) -> Person | None:
 class Rule:
     roles: frozenset[str]
     on_object: ObjectCheck | None = None
+    # The roles ``on_object`` applies to; the others among ``roles`` may act on any record.
+    checked_roles: frozenset[str] = frozenset()
 
 
-def allow(*roles: str, on_object: ObjectCheck | None = None) -> Rule:
-    return Rule(frozenset(roles), on_object)
+def allow(*roles: str, on_object: ObjectCheck | None = None, checked: tuple[str, ...] | None = None) -> Rule:
+    """A rule; ``on_object`` binds every listed role but the LSO unless ``checked`` says whom."""
+    checked_roles = frozenset(checked) if checked is not None else frozenset(roles) - {LSO}
+    return Rule(frozenset(roles), on_object, checked_roles if on_object is not None else frozenset())
 
 
 @dataclass(frozen=True)
@@ -87,7 +91,7 @@ class RolePolicy(BasePermission):
         rule = _rule_for(view)
         if person is None or rule is None:
             return False
-        if person.role == LSO or rule.on_object is None:
+        if rule.on_object is None or person.role not in rule.checked_roles:
             return True
         return rule.on_object(person, obj)
 
@@ -193,7 +197,7 @@ LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO)})
 
 LASERS = Policy({
     **_read(*_READERS),
-    "history": allow(LSO, INSPECTOR, RESEARCHER, on_object=owns_laser),
+    "history": allow(LSO, INSPECTOR, RESEARCHER, on_object=owns_laser, checked=(RESEARCHER,)),
     # Researchers register lasers; the service starts them as pending review, owned by them.
     "create": allow(LSO, RESEARCHER),
     "update": allow(LSO, RESEARCHER, on_object=owns_laser),
@@ -206,7 +210,7 @@ LASERS = Policy({
 
 EMISSIONS = Policy({
     **_read(*_READERS),
-    "history": allow(LSO, INSPECTOR, RESEARCHER, on_object=owns_parent_laser),
+    "history": allow(LSO, INSPECTOR, RESEARCHER, on_object=owns_parent_laser, checked=(RESEARCHER,)),
     # Which laser a new emission may join is limited by the serializer (editable_lasers).
     "create": allow(LSO, RESEARCHER),
     "update": allow(LSO, RESEARCHER, on_object=owns_parent_laser),

@@ -5,7 +5,7 @@ from typing import Any
 
 from django.shortcuts import get_object_or_404
 from drf_spectacular.utils import OpenApiResponse, extend_schema
-from rest_framework import mixins, serializers, status
+from rest_framework import serializers, status
 from rest_framework.decorators import action
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -33,7 +33,7 @@ from registry.services import incidents as incident_services
 _CONFLICT = OpenApiResponse(description="The record's status does not allow this step (the body says why).")
 
 
-class AuditViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class AuditViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.AUDITS
     serializer_class = AuditSerializer
     input_serializer_classes = {
@@ -118,7 +118,7 @@ class FindingViewSet(RegisterViewSet):
         return self.respond_with(finding)
 
 
-class IncidentViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class IncidentViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.INCIDENTS
     serializer_class = IncidentSerializer
     input_serializer_classes = {"close": IncidentCloseSerializer}

@@ -57,7 +57,7 @@ def check_if_match(request: Request, current_etag: str, *, required: bool) -> No
 
 
 class ETagMixin:
-    """For ModelViewSets: ETag on retrieve and update answers; If-Match required on updates.
+    """For register viewsets: an ETag on every retrieve answer, and the helpers updates use.
 
     Workflow actions may call ``check_optional_if_match(instance)``: an If-Match sent with
     a workflow step is honoured, but not required (the service refuses illegal steps).
@@ -66,20 +66,6 @@ class ETagMixin:
     def retrieve(self, request: Request, *args: Any, **kwargs: Any) -> Response:
         response: Response = super().retrieve(request, *args, **kwargs)  # type: ignore[misc]
         response["ETag"] = etag_for(response.data)
-        return response
-
-    def update(self, request: Request, *args: Any, **kwargs: Any) -> Response:
-        partial = kwargs.pop("partial", False)
-        with transaction.atomic():
-            instance = self.get_object_for_update()
-            check_if_match(request, self.etag_of(instance), required=True)
-            serializer = self.get_serializer(instance, data=request.data, partial=partial)  # type: ignore[attr-defined]
-            serializer.is_valid(raise_exception=True)
-            # perform_update() calls the service and returns the saved record.
-            updated = self.perform_update(serializer)  # type: ignore[attr-defined]
-        data = self.representation_of(updated)
-        response = Response(data)
-        response["ETag"] = etag_for(data)
         return response
 
     def get_object_for_update(self) -> Model:
@@ -111,3 +97,25 @@ class ETagMixin:
     def check_optional_if_match(self, instance: Model) -> None:
         if "If-Match" in self.request.headers:  # type: ignore[attr-defined]
             check_if_match(self.request, self.etag_of(instance), required=False)  # type: ignore[attr-defined]
+
+
+class UpdateWithETagMixin:
+    """PUT and PATCH that require If-Match and check it against the locked, current record."""
+
+    def update(self, request: Request, *args: Any, **kwargs: Any) -> Response:
+        partial = kwargs.pop("partial", False)
+        with transaction.atomic():
+            instance = self.get_object_for_update()  # type: ignore[attr-defined]
+            check_if_match(request, self.etag_of(instance), required=True)  # type: ignore[attr-defined]
+            serializer = self.get_serializer(instance, data=request.data, partial=partial)  # type: ignore[attr-defined]
+            serializer.is_valid(raise_exception=True)
+            # perform_update() calls the service and returns the saved record.
+            updated = self.perform_update(serializer)  # type: ignore[attr-defined]
+        data = self.representation_of(updated)  # type: ignore[attr-defined]
+        response = Response(data)
+        response["ETag"] = etag_for(data)
+        return response
+
+    def partial_update(self, request: Request, *args: Any, **kwargs: Any) -> Response:
+        kwargs["partial"] = True
+        return self.update(request, *args, **kwargs)

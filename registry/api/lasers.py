@@ -4,7 +4,7 @@ from __future__ import annotations
 from typing import Any
 
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
-from rest_framework import mixins, serializers
+from rest_framework import serializers
 from rest_framework.decorators import action
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -12,6 +12,7 @@ from rest_framework.response import Response
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet
 from registry.api.errors import service_errors
+from registry.api.etags import UpdateWithETagMixin
 from registry.filters import EmissionFilter, HazardResultFilter, LaserFilter
 from registry.models import RETIRED_STATUSES, Emission, HazardResult, Laser
 from registry.serializers.lasers import (
@@ -34,7 +35,7 @@ _CONFLICT = OpenApiResponse(description="The laser's status does not allow this 
     list=extend_schema(summary="List lasers with their emissions and current hazard results"),
     create=extend_schema(summary="Register a laser (it starts as pending review)"),
 )
-class LaserViewSet(CreateRecordMixin, mixins.CreateModelMixin, mixins.UpdateModelMixin, RegisterViewSet):
+class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
     policy = permissions.LASERS
     serializer_class = LaserSerializer
     input_serializer_classes = {
@@ -108,7 +109,7 @@ class LaserViewSet(CreateRecordMixin, mixins.CreateModelMixin, mixins.UpdateMode
         return self.respond_with(laser)
 
 
-class EmissionViewSet(CreateRecordMixin, mixins.CreateModelMixin, mixins.UpdateModelMixin, RegisterViewSet):
+class EmissionViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
     policy = permissions.EMISSIONS
     serializer_class = EmissionSerializer
     input_serializer_classes = {"update": EmissionUpdateSerializer, "partial_update": EmissionUpdateSerializer}

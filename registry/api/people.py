@@ -4,7 +4,7 @@ from __future__ import annotations
 from typing import Any
 
 from drf_spectacular.utils import OpenApiResponse, extend_schema
-from rest_framework import mixins, serializers, status
+from rest_framework import serializers, status
 from rest_framework.decorators import action
 from rest_framework.parsers import FormParser, JSONParser, MultiPartParser
 from rest_framework.request import Request
@@ -45,7 +45,7 @@ class PersonViewSet(RegisterViewSet):
         return selectors.person_list()
 
 
-class TrainingRecordViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class TrainingRecordViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.TRAINING_RECORDS
     serializer_class = TrainingRecordSerializer
     filterset_class = TrainingRecordFilter
@@ -61,7 +61,7 @@ class TrainingRecordViewSet(CreateRecordMixin, mixins.CreateModelMixin, Register
             return training_services.training_record(by=self.person, **serializer.validated_data)
 
 
-class AuthorizationViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.AUTHORIZATIONS
     serializer_class = AuthorizationSerializer
     input_serializer_classes = {"approve": AuthorizationApprovalSerializer, "refuse": AuthorizationRefusalSerializer}
@@ -109,7 +109,7 @@ class AuthorizationViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterV
         return self.respond_with(authorization)
 
 
-class SOPViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class SOPViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.SOPS
     serializer_class = SOPSerializer
     input_serializer_classes = {"approve": SOPApprovalSerializer}

@@ -4,7 +4,7 @@ from __future__ import annotations
 from typing import Any
 
 from drf_spectacular.utils import extend_schema
-from rest_framework import mixins, serializers
+from rest_framework import serializers
 from rest_framework.decorators import action
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -23,7 +23,7 @@ from registry.serializers.places import (
 from registry.services import eyewear as eyewear_services
 
 
-class LocationViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class LocationViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.LOCATIONS
     serializer_class = LocationSerializer
     filterset_class = LocationFilter
@@ -39,7 +39,7 @@ class LocationViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSe
             return eyewear_services.location_create(by=self.person, **serializer.validated_data)
 
 
-class EyewearViewSet(CreateRecordMixin, mixins.CreateModelMixin, RegisterViewSet):
+class EyewearViewSet(CreateRecordMixin, RegisterViewSet):
     policy = permissions.EYEWEAR
     serializer_class = EyewearSerializer
     input_serializer_classes = {"inspect": EyewearInspectionSerializer, "set_markings": EyewearMarkingsSerializer}

@@ -8,6 +8,7 @@ from rest_framework.routers import DefaultRouter
 import registry.schema  # noqa: F401
 from registry.api import docs
 from registry.api.auth import TokenSignInView
+from registry.api.evaluate import EvaluateView
 from registry.api.audits import AuditViewSet, FindingViewSet, IncidentViewSet
 from registry.api.lasers import EmissionViewSet, HazardResultViewSet, LaserViewSet
 from registry.api.people import AuthorizationViewSet, PersonViewSet, SOPViewSet, TrainingRecordViewSet
@@ -35,5 +36,6 @@ urlpatterns = [
     path("docs/", docs.SwaggerDocsView.as_view(url_name="api:schema"), name="docs"),
     path("docs/redoc/", docs.RedocDocsView.as_view(url_name="api:schema"), name="redoc"),
     path("auth/token/", TokenSignInView.as_view(), name="token"),
+    path("evaluate/", EvaluateView.as_view(), name="evaluate"),
     path("", include(router.urls)),
 ]
