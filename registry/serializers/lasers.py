@@ -6,6 +6,7 @@ from typing import Any
 from rest_framework import serializers
 from rest_framework.reverse import reverse
 
+from hazards.units import format_si
 from registry.models import (
     MAX_WAVELENGTH_M,
     MIN_WAVELENGTH_M,
@@ -20,6 +21,11 @@ from registry.models import (
 from registry.permissions import editable_lasers, person_of
 from registry.serializers.base import ScopedRelatedField
 from registry.serializers.fields import QuantityField, QuantitySerializerMixin
+
+# How far pulse energy x repetition rate may stray from the stated average power before the
+# set is refused: data sheets round both figures. The same tolerance as hazards.assessment
+# (common practice, no source).
+POWER_CONSISTENCY = 0.2
 
 HAZARD_CAUTION = ("Figures support, and never replace, the judgement of the laser safety officer and the "
                   "local regulations.")
@@ -131,6 +137,13 @@ class EmissionSerializer(QuantitySerializerMixin, serializers.ModelSerializer): 
         if duration is not None and prf is not None and duration > 1.0 / prf:
             raise serializers.ValidationError(
                 {"pulse_duration": f"a {duration:g} s pulse is longer than the period 1/prf = {1.0 / prf:g} s."})
+        energy, power = merged.get("pulse_energy_J"), merged.get("average_power_W")
+        if energy is not None and prf is not None and power is not None:
+            implied = energy * prf
+            if abs(implied - power) > POWER_CONSISTENCY * power:
+                raise serializers.ValidationError({"average_power": (
+                    f"{format_si(power, 'W')} disagrees with pulse_energy x prf = {format_si(implied, 'W')} "
+                    f"by more than {POWER_CONSISTENCY:.0%}; check all three.")})
         low, high = merged.get("wavelength_m"), merged.get("wavelength_max_m")
         if low is not None and high is not None and high <= low:
             raise serializers.ValidationError({"wavelength_max": "must be longer than wavelength."})
@@ -139,7 +152,7 @@ class EmissionSerializer(QuantitySerializerMixin, serializers.ModelSerializer): 
     def _current_values(self) -> dict[str, Any]:
         if self.instance is None:
             return {}
-        names = ("pulse_duration_s", "prf_Hz", "wavelength_m", "wavelength_max_m")
+        names = ("pulse_duration_s", "prf_Hz", "pulse_energy_J", "average_power_W", "wavelength_m", "wavelength_max_m")
         return {name: getattr(self.instance, name) for name in names}
 
 
