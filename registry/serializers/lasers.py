@@ -140,7 +140,7 @@ class EmissionSerializer(QuantitySerializerMixin, serializers.ModelSerializer): 
         energy, power = merged.get("pulse_energy_J"), merged.get("average_power_W")
         if energy is not None and prf is not None and power is not None:
             implied = energy * prf
-            if abs(implied - power) > POWER_CONSISTENCY * power:
+            if abs(implied - power) > POWER_CONSISTENCY * max(implied, power):
                 raise serializers.ValidationError({"average_power": (
                     f"{format_si(power, 'W')} disagrees with pulse_energy x prf = {format_si(implied, 'W')} "
                     f"by more than {POWER_CONSISTENCY:.0%}; check all three.")})
