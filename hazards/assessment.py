@@ -16,7 +16,7 @@ from typing import Any, Literal
 import numpy as np
 
 from hazards import ENGINE_VERSION
-from hazards.beam import DIAMETER_DEFINITIONS, DiameterDefinition, aperture_averaged, to_one_over_e
+from hazards.beam import DIAMETER_DEFINITIONS, DiameterDefinition, aperture_averaged, to_one_over_e, to_one_over_e2
 from hazards.classes import ClassCheck, check_class, normalise_class
 from hazards.distances import (
     HazardDistance,
@@ -28,7 +28,14 @@ from hazards.distances import (
 )
 from hazards.errors import InputError
 from hazards.eyewear import Adequacy, En207Rating, EyewearBand, en207_rating, eyewear_adequacy, optical_density, parse_marking
-from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS, default_exposure_duration, exposure_limit, pulse_train_limit
+from hazards.limits import (
+    DEFAULT_LIMITS,
+    LIMIT_SETS,
+    default_exposure_duration,
+    exposure_duration_basis,
+    exposure_limit,
+    pulse_train_limit,
+)
 from hazards.units import format_si, parse_quantity
 from hazards.working import Working
 
@@ -166,6 +173,8 @@ class Assessment:
                 "divergence_rad": beam.divergence_rad, "diameter_at": beam.diameter_at,
                 "beam_diameter_1e_m": to_one_over_e(beam.beam_diameter_m, beam.diameter_at),
                 "divergence_1e_rad": to_one_over_e(beam.divergence_rad, beam.diameter_at),
+                "beam_diameter_1e2_m": to_one_over_e2(beam.beam_diameter_m, beam.diameter_at),
+                "divergence_1e2_rad": to_one_over_e2(beam.divergence_rad, beam.diameter_at),
                 "pulse_energy_J": beam.energy_per_pulse_J if beam.mode != "continuous" else None,
                 "pulse_duration_s": beam.pulse_duration_s, "prf_Hz": beam.prf_Hz,
                 "source_size_rad": beam.source_size_rad, "laser_class": beam.laser_class,
@@ -348,11 +357,12 @@ def assess(beam: Beam, scenario: Scenario) -> Assessment:
         assert beam.pulse_duration_s is not None
         exposure_s = beam.pulse_duration_s
         basis = "a single pulse: the exposure lasts one pulse"
+        if scenario.exposure_s is not None:
+            warnings.append("The exposure duration given does not apply to a single pulse; the pulse duration is "
+                            "used. Give a pulse repetition frequency to assess a train.")
     elif scenario.exposure_s is None:
         exposure_s = float(default_exposure_duration(beam.wavelength_m, deliberate=scenario.deliberate_viewing))
-        basis = ("default for deliberate long viewing" if scenario.deliberate_viewing else
-                 "default of common practice: 0.25 s aversion response (400-700 nm), 10 s infrared, "
-                 "30 000 s ultraviolet")
+        basis = exposure_duration_basis(beam.wavelength_m, deliberate=scenario.deliberate_viewing)
     else:
         exposure_s = scenario.exposure_s
         basis = "given"

@@ -34,18 +34,6 @@ def circle_area(diameter_m: float) -> float:
     return math.pi * diameter_m**2 / 4.0
 
 
-def diameter_at_distance(diameter_m: float, divergence_rad: float, distance_m: float,
-                         *, form: Literal["quadrature", "linear"] = "quadrature") -> float:
-    """Beam diameter after ``distance_m``: sqrt(a^2 + (phi r)^2) or a + phi r.
-
-    Both growth laws appear in published guidance; the quadrature law is the far-field
-    Gaussian result, the linear one the simple cone. Inputs share one definition (1/e or 1/e^2).
-    """
-    if form == "quadrature":
-        return math.hypot(diameter_m, divergence_rad * distance_m)
-    return diameter_m + divergence_rad * distance_m
-
-
 def fraction_through_aperture(beam_diameter_1e_m: float, aperture_m: float) -> float:
     """Share of a centred Gaussian beam's power inside a circular aperture.
 

@@ -12,6 +12,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Literal
 
+from hazards.beam import circle_area, peak_over_area
 from hazards.errors import InputError
 from hazards.working import Working
 
@@ -20,7 +21,6 @@ from hazards.working import Working
 _ROUNDING_SLACK = 1e-9
 
 Condition = Literal["D", "I", "R", "M"]
-CONDITIONS: tuple[Condition, ...] = ("D", "I", "R", "M")
 
 # Test-condition boundaries, DGUV 203-042 section 5.1 Table 2 (EN 207 Table 1).
 _CONTINUOUS_ABOVE_S = 0.25
@@ -205,9 +205,8 @@ def en207_rating(wavelength_m: float, beam_diameter_1e_m: float, *, average_powe
     """
     working = Working()
     warnings: list[str] = []
-    area = math.pi * beam_diameter_1e_m**2 / 4.0
-    working.add("EN 207: beam area", "A63 = pi d63^2 / 4", area, "m^2", "DGUV 203-042 section 5.2",
-                d63=beam_diameter_1e_m)
+    working.add("EN 207: beam area", "A63 = pi d63^2 / 4", circle_area(beam_diameter_1e_m), "m^2",
+                "DGUV 203-042 section 5.2", d63=beam_diameter_1e_m)
     requirements: list[LbRequirement] = []
     pulsed = pulse_energy_J is not None and pulse_duration_s is not None
     if pulsed:
@@ -215,18 +214,18 @@ def en207_rating(wavelength_m: float, beam_diameter_1e_m: float, *, average_powe
         condition = en207_condition(pulse_duration_s)
         if condition == "D":
             # A "pulse" longer than 0.25 s is tested as continuous emission at its own power.
-            peak = pulse_energy_J / pulse_duration_s / area
+            peak = peak_over_area(pulse_energy_J / pulse_duration_s, beam_diameter_1e_m)
             requirements.append(_requirement("D", wavelength_m, peak, "E", working, "E = (Q / t) / A63"))
         elif condition == "M" and en207_band(wavelength_m) != 1:
-            peak = pulse_energy_J / pulse_duration_s / area
+            peak = peak_over_area(pulse_energy_J / pulse_duration_s, beam_diameter_1e_m)
             requirements.append(_requirement("M", wavelength_m, peak, "E", working, "E_peak = Q / (t A63)"))
         else:
             factor = 1.0 if prf_Hz is None else repetition_factor(wavelength_m, pulse_duration_s, prf_Hz, working)
-            density = pulse_energy_J / area * factor
+            density = peak_over_area(pulse_energy_J, beam_diameter_1e_m) * factor
             requirements.append(_requirement(condition, wavelength_m, density, "H", working,
                                              "H' = Q / A63 x train factor"))
     if average_power_W is not None and (not pulsed or prf_Hz is not None):
-        density = average_power_W / area
+        density = peak_over_area(average_power_W, beam_diameter_1e_m)
         requirements.insert(0, _requirement("D", wavelength_m, density, "E", working,
                                             "E = P_avg / A63" if pulsed else "E = P / A63"))
     for requirement in requirements:

@@ -36,6 +36,8 @@ class Variables(Mapping[str, FloatArray]):
         self.size = next(iter(inputs.values())).shape[0]
         self._values: dict[str, FloatArray] = dict(inputs)
         self.piece_index: dict[str, IndexArray] = {}
+        # Many rows share a wavelength band: the points inside each band are found once.
+        self.band_cache: dict[tuple[str, str], IndexArray] = {}
 
     def __getitem__(self, name: str) -> FloatArray:
         if name not in self._values:
@@ -60,6 +62,10 @@ def evaluate_factor(factor: Factor, variables: Variables) -> tuple[FloatArray, I
     piece_index = np.full(variables.size, -1, dtype=np.intp)
     unassigned: IndexArray | None = None
     for number, piece in enumerate(factor.pieces):
+        if unassigned is None and not piece.conditions:
+            # A factor with one value everywhere (alpha_min): no indexing needed.
+            return (piece.value.evaluate({name: variables[name] for name in piece.value.names}, (variables.size,)),
+                    np.full(variables.size, number, dtype=np.intp))
         chosen = select(piece.conditions, variables, unassigned)
         if chosen.size == 0:
             continue
@@ -75,10 +81,15 @@ def select(conditions: tuple[Condition, ...], variables: Variables, candidates: 
     """The indices among ``candidates`` (None: all points) where every condition holds."""
     chosen = candidates
     for condition in conditions:
-        if chosen is not None and chosen.size == 0:
+        if chosen is None:
+            key = (condition.variable, condition.interval.text)
+            if key not in variables.band_cache:
+                variables.band_cache[key] = np.flatnonzero(_holds(condition, variables, None))
+            chosen = variables.band_cache[key]
+            continue
+        if chosen.size == 0:
             break
-        keep = _holds(condition, variables, chosen)
-        chosen = np.flatnonzero(keep) if chosen is None else chosen[keep]
+        chosen = chosen[_holds(condition, variables, chosen)]
     return np.arange(variables.size) if chosen is None else chosen
 
 

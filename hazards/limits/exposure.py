@@ -12,7 +12,7 @@ from numpy.typing import NDArray
 from hazards import ENGINE_VERSION
 from hazards.errors import InputError
 from hazards.limits.engine import Evaluation, FloatArray, evaluate_aperture_mm, evaluate_rows
-from hazards.limits.limit_set import TISSUES, LimitSet, available_limit_sets, load_limit_set
+from hazards.limits.limit_set import TISSUES, LimitSet, Row, available_limit_sets, load_limit_set
 from hazards.units import format_si, parse_quantity
 from hazards.working import Working
 
@@ -61,7 +61,8 @@ class ExposureLimit:
     """Exposure limits at each point (numpy arrays; 0-d for scalar input).
 
     ``working`` is filled for scalar input only; for arrays use ``records()`` for a per-point
-    summary with the governing row's citation.
+    summary with the governing row's citation. ``rows[row_index]`` is the governing row (-1:
+    none holds, which happens only for the pulse rule that looks at marked rows alone).
     """
 
     wavelength_m: FloatArray
@@ -72,9 +73,8 @@ class ExposureLimit:
     aperture_m: FloatArray
     field_of_view_rad: FloatArray
     governing: NDArray[np.str_]
-    governing_row: NDArray[np.str_]
-    citation: NDArray[np.str_]
-    status: NDArray[np.str_]
+    row_index: NDArray[np.intp]
+    rows: tuple[Row, ...]
     limits: str
     tissue: str
     duration_basis: str
@@ -93,7 +93,9 @@ class ExposureLimit:
     def records(self) -> Iterator[dict[str, Any]]:
         """One summary object per point, in order (no working; the governing row is cited)."""
         limit_set = load_limit_set(self.limits)
+        row_index = self.row_index.reshape(-1)
         for index in range(self.radiant_exposure_J_m2.size):
+            row = self.rows[row_index[index]] if row_index[index] >= 0 else None
             yield {
                 "wavelength_m": _item(self.wavelength_m, index),
                 "duration_s": _item(self.duration_s, index),
@@ -107,9 +109,9 @@ class ExposureLimit:
                 "aperture_m": _item(self.aperture_m, index),
                 "field_of_view_rad": _item(self.field_of_view_rad, index),
                 "governing": str(self.governing.reshape(-1)[index]),
-                "governing_row": str(self.governing_row.reshape(-1)[index]),
-                "citation": str(self.citation.reshape(-1)[index]),
-                "status": str(self.status.reshape(-1)[index]),
+                "governing_row": row.id if row else None,
+                "citation": row.citation if row else None,
+                "status": (row.status + (f": {row.note}" if row.note else "")) if row else None,
                 "caution": CAUTION,
                 "engine_version": ENGINE_VERSION,
             }
@@ -118,6 +120,9 @@ class ExposureLimit:
 def _item(array: FloatArray, index: int) -> float | None:
     value = float(array.reshape(-1)[index])
     return value if math.isfinite(value) else None
+
+
+_BOUND_SLACK = 1e-9
 
 
 def check_limits_and_tissue(limits: str, tissue: str) -> LimitSet:
@@ -141,8 +146,10 @@ def as_checked_array(value: object, *, field: str, unit: str, minimum: float, ma
         array = np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError):
         raise InputError(field, f"expected numbers in {unit}, got {value!r}") from None
-    too_low = array < minimum if inclusive_minimum else array <= minimum
-    bad = ~np.isfinite(array) | too_low | (array > maximum)
+    # A bound reached through a unit conversion (180 nm as 1.7999999999999997e-07 m) is on the bound.
+    low, high = minimum - _BOUND_SLACK * abs(minimum), maximum + _BOUND_SLACK * abs(maximum)
+    too_low = array < low if inclusive_minimum else array <= minimum
+    bad = ~np.isfinite(array) | too_low | (array > high)
     if bad.any():
         position = int(np.flatnonzero(bad.reshape(-1))[0])
         where = "" if array.ndim == 0 else f" (element {position})"
@@ -151,7 +158,7 @@ def as_checked_array(value: object, *, field: str, unit: str, minimum: float, ma
                            maximum=maximum, inclusive_minimum=inclusive_minimum)
         except InputError as error:
             raise InputError(field, error.message + where) from None
-    return array
+    return np.clip(array, minimum, maximum) if inclusive_minimum else np.minimum(array, maximum)
 
 
 def check_points(limit_set: LimitSet, wavelength_m: object, duration_s: object, source_size_rad: object,
@@ -205,13 +212,9 @@ def evaluate_limit(limit_set: LimitSet, tissue: str, wavelength_m: FloatArray, d
                           f"{wavelength_m.reshape(-1)[position]} m, duration {flat_t[position]} s")
     radiant_exposure = np.where(found, evaluation.radiant_exposure_J_m2, np.nan)
     aperture_mm, _ = evaluate_aperture_mm(limit_set, tissue, evaluation.variables)
-    index = np.where(found, evaluation.row_index, 0)
-    mechanism = np.array([row.mechanism for row in evaluation.rows] or [""])[index]
-    row_id = np.array([row.id for row in evaluation.rows] or [""])[index]
-    citation = np.array([row.citation for row in evaluation.rows] or [""])[index]
-    status = np.array([row.status + (f": {row.note}" if row.note else "") for row in evaluation.rows] or [""])[index]
-    field_of_view = _field_of_view_mrad(evaluation, index, found) * 1e-3
-    mechanism = np.where(found, mechanism, "not applicable")
+    mechanisms = np.array([row.mechanism for row in evaluation.rows] + ["not applicable"])
+    mechanism = mechanisms[np.where(found, evaluation.row_index, len(evaluation.rows))]
+    field_of_view = _field_of_view_mrad(evaluation, found) * 1e-3
     working = notes = None
     if scalar:
         working, notes = _working(limit_set, tissue, evaluation, wavelength_m, duration_s, source_size_rad,
@@ -222,21 +225,19 @@ def evaluate_limit(limit_set: LimitSet, tissue: str, wavelength_m: FloatArray, d
         irradiance_W_m2=(radiant_exposure / flat_t).reshape(shape),
         aperture_m=(aperture_mm * 1e-3).reshape(shape),
         field_of_view_rad=field_of_view.reshape(shape),
-        governing=mechanism.reshape(shape), governing_row=np.where(found, row_id, "").reshape(shape),
-        citation=np.where(found, citation, "").reshape(shape),
-        status=np.where(found, status, "").reshape(shape),
+        governing=mechanism.reshape(shape), row_index=evaluation.row_index.reshape(shape), rows=evaluation.rows,
         limits=limit_set.name, tissue=tissue, duration_basis=duration_basis,
         notes=tuple(notes or limit_set.notes), working=working,
     )
 
 
-def _field_of_view_mrad(evaluation: Evaluation, index: NDArray[np.intp], found: NDArray[np.bool_]) -> FloatArray:
+def _field_of_view_mrad(evaluation: Evaluation, found: NDArray[np.bool_]) -> FloatArray:
     """The acceptance angle of the governing row where it prescribes one (photochemical), else NaN."""
-    result = np.full(index.shape[0], np.nan)
+    result = np.full(found.shape[0], np.nan)
     for number, row in enumerate(evaluation.rows):
         if row.field_of_view is None:
             continue
-        governed = found & (index == number)
+        governed = found & (evaluation.row_index == number)
         if governed.any():
             result[governed] = evaluation.variables[row.field_of_view][governed]
     return result

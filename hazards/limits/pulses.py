@@ -222,7 +222,7 @@ def _working(limit_set: LimitSet, single: ExposureLimit, whole: ExposureLimit, r
     reduced = float(candidates["reduced_single_pulse"])
     if math.isfinite(reduced):
         working.add("reduced_single_pulse candidate", "C_P * H_thermal(t_p or grouping time) / pulses per group",
-                    reduced, "J/m^2", f"rule 3: {reducible.citation.item()}")
+                    reduced, "J/m^2", f"rule 3: {reducible.rows[int(reducible.row_index)].citation}")
     else:
         working.add("reduced_single_pulse candidate", "not applicable", None, "",
                     "rule 3 applies only to the rows marked for it (thermal injury); none holds here")

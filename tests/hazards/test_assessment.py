@@ -219,3 +219,10 @@ def test_a_wrong_unit_is_one_line_and_exit_2(capsys: pytest.CaptureFixture[str])
     assert status == 2
     assert err.startswith("error: power:")
     assert err.count("\n") == 1
+
+
+def test_deliberate_viewing_takes_the_long_default() -> None:
+    # common practice (ICNIRP 2013 long-exposure basis): 30 000 s for deliberate long viewing
+    result = _assess(**GREEN_5W, deliberate=True)
+    assert result["exposure_basis"]["exposure_s"] == 30000.0
+    assert "deliberate" in result["exposure_basis"]["how"]

@@ -59,7 +59,8 @@ def test_the_532_nm_5_w_beam_has_a_nohd_of_707_m_by_hand() -> None:
 
 
 def test_a_1_w_visible_beam_of_1_mrad_has_the_published_225_m() -> None:
-    # Laser-show guidance (online.flipbuilder.com/rbhw/egvu, page 110, "Nominal Ocular Hazard Distance"):
+    # "Fundamentals of Medical/Aesthetic Lasers and IPLs" v1.2, chapter 1, "Nominal Ocular Hazard Distance"
+    # (public training guide, online.flipbuilder.com/rbhw/egvu page 110):
     # "the NOHD for a 1000 milliwatt laser ... divergence of 1 milliradian ... is 225 metres".
     # sqrt(4 x 1 / (pi x 25.456)) / 0.001 = 223.6 m for a small exit beam; the quoted figure is rounded.
     result = nohd(1.0, VISIBLE_025S_W_M2, 1e-3, 1e-3, PUPIL)

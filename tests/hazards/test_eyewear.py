@@ -32,6 +32,10 @@ VISIBLE_025S_W_M2 = 18 * 0.25**0.75 / 0.25  # ICNIRP 2013 Table 5, 400-700 nm, 0
     # 1064 nm, 100 mJ in 10 ns, d63 5 mm (whole pulse in the pupil): 0.1 / 3.8485e-5 = 2598.4 J/m^2;
     # single-pulse MPE 0.05 J/m^2 (BGI 832 / IEC 60825-1:2007, 1050-1400 nm, 1 ns-50 us) -> 10^4.7157
     (aperture_averaged(0.1, 5e-3, 7e-3), 0.05, 4.7157, 5),
+    # "Fundamentals of Medical/Aesthetic Lasers and IPLs" v1.2, chapter 1, "Optical Density" (public training
+    # guide, online.flipbuilder.com/rbhw/egvu pages 111-112): 12.5 J/cm^2 on a 1 ns 1064 nm MPE of 5e-6 J/cm^2,
+    # "OD = log10(12.5 / 5x10-6) = 6.4", and in practice "a minimum OD of 7 at 1064 nm".
+    (12.5e4, 5e-2, 6.398, 7),
     (1000.0, 10.0, 2.0, 2),  # exactly two decades: rounding up must not add a third
     (5.0, 10.0, math.log10(0.5), 0),  # below the MPE: no filter needed
 ])
@@ -156,6 +160,20 @@ def test_lb_never_falls_as_power_rises(power: float, factor: float, wavelength: 
     low = en207_rating(wavelength, 2e-3, average_power_W=power).requirements[0].scale_number
     high = en207_rating(wavelength, 2e-3, average_power_W=power * factor).requirements[0].scale_number
     assert high >= low
+
+
+@given(st.floats(min_value=1e-9, max_value=10.0), st.floats(min_value=1.0, max_value=1e4),
+       st.sampled_from([10e-15, 10e-9, 100e-6]), st.sampled_from([None, 10.0, 1e3, 80e6]),
+       st.sampled_from([266e-9, 800e-9, 1064e-9, 2.94e-6]))
+def test_pulsed_lb_numbers_never_fall_as_pulse_energy_rises(energy: float, factor: float, duration: float,
+                                                            prf: float | None, wavelength: float) -> None:
+    def numbers(pulse_energy: float) -> list[int]:
+        power = None if prf is None else pulse_energy * prf
+        rating = en207_rating(wavelength, 2e-3, average_power_W=power, pulse_energy_J=pulse_energy,
+                              pulse_duration_s=duration, prf_Hz=prf)
+        return [requirement.scale_number for requirement in rating.requirements]
+
+    assert all(high >= low for low, high in zip(numbers(energy), numbers(energy * factor), strict=True))
 
 
 @pytest.mark.parametrize(("text", "low_nm", "high_nm", "od", "numbers"), [
