@@ -180,6 +180,14 @@ class EyewearMarkingInline(admin.TabularInline):
     extra = 0
 
 
+@admin.register(EyewearMarking)
+class EyewearMarkingAdmin(SimpleHistoryAdmin):
+    list_display = ["eyewear", "__str__", "optical_density", "en207_conditions", "en207_scale"]
+    list_filter = ["en207_scale", "eyewear__location"]
+    search_fields = ["eyewear__inventory_tag"]
+    list_select_related = ["eyewear"]
+
+
 @admin.register(Eyewear)
 class EyewearAdmin(RetainedAdmin):
     list_display = ["inventory_tag", "description", "location", "quantity", "condition", "last_inspected_on"]

@@ -57,12 +57,14 @@ class Audit(ComplianceRecord):
             models.CheckConstraint(
                 condition=~models.Q(scope=AuditScope.LOCATION) | models.Q(location__isnull=False),
                 name="registry_audit_location_scope_names_location",
+                violation_error_message=_("An audit of one location must name the location."),
             ),
             models.CheckConstraint(
                 condition=~models.Q(status=AuditStatus.SIGNED_OFF)
                 | (models.Q(signed_off_by__isnull=False) & models.Q(signed_off_at__isnull=False)
                    & models.Q(conducted_on__isnull=False)),
                 name="registry_audit_signed_off_has_signatory",
+                violation_error_message=_("A signed-off audit needs the date it was conducted, who signed it off and when."),
             ),
         ]
 
@@ -155,6 +157,7 @@ class Finding(ComplianceRecord):
                 | (models.Q(closed_on__isnull=False) & models.Q(closed_by__isnull=False)
                    & ~models.Q(closure_evidence="")),
                 name="registry_finding_closed_has_evidence",
+                violation_error_message=_("A closed finding needs the closing date, who closed it and the evidence of closure."),
             ),
         ]
 

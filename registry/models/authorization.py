@@ -59,6 +59,7 @@ class Authorization(ComplianceRecord):
                 condition=~models.Q(status__in=[AuthorizationStatus.APPROVED, AuthorizationStatus.REFUSED])
                 | (models.Q(decided_by__isnull=False) & models.Q(decided_at__isnull=False)),
                 name="registry_authorization_decision_has_decider",
+                violation_error_message=_("An approved or refused authorization needs who decided and when."),
             ),
         ]
 

@@ -36,7 +36,8 @@ class Eyewear(ComplianceRecord):
         verbose_name = _("eyewear")
         verbose_name_plural = _("eyewear")
         constraints = [
-            models.CheckConstraint(condition=models.Q(quantity__gte=1), name="registry_eyewear_quantity_positive"),
+            models.CheckConstraint(condition=models.Q(quantity__gte=1), name="registry_eyewear_quantity_positive",
+                violation_error_message=_("Quantity must be at least 1.")),
             models.CheckConstraint(
                 condition=models.Q(condition__in=[choice.value for choice in EyewearCondition]),
                 name="registry_eyewear_condition_valid",
@@ -77,22 +78,27 @@ class EyewearMarking(TimestampedModel):
                 & models.Q(wavelength_max_m__lte=MAX_WAVELENGTH_M)
                 & models.Q(wavelength_max_m__gte=models.F("wavelength_min_m")),
                 name="registry_eyewearmarking_band_in_range",
+                violation_error_message=_("The band must run from 180 nm to 1 mm with 'to wavelength' not below 'from wavelength'."),
             ),
             models.CheckConstraint(
                 condition=models.Q(optical_density__isnull=False) | models.Q(en207_scale__isnull=False),
                 name="registry_eyewearmarking_has_od_or_lb",
+                violation_error_message=_("A marking needs an optical density, an EN 207 scale number, or both."),
             ),
             models.CheckConstraint(
                 condition=models.Q(optical_density__isnull=True) | models.Q(optical_density__gt=0),
                 name="registry_eyewearmarking_od_positive",
+                violation_error_message=_("Optical density must be greater than 0."),
             ),
             models.CheckConstraint(
                 condition=models.Q(en207_scale__isnull=True) | models.Q(en207_scale__gte=1, en207_scale__lte=10),
                 name="registry_eyewearmarking_lb_scale_in_range",
+                violation_error_message=_("The EN 207 scale number runs from LB1 to LB10."),
             ),
             models.CheckConstraint(
                 condition=models.Q(en207_scale__isnull=True) | ~models.Q(en207_conditions=""),
                 name="registry_eyewearmarking_lb_has_conditions",
+                violation_error_message=_("An EN 207 scale number needs its test conditions (D, I, R or M)."),
             ),
         ]
 

@@ -49,20 +49,25 @@ class HazardResult(TimestampedModel):
         verbose_name_plural = _("hazard results")
         constraints = [
             models.UniqueConstraint(fields=["emission", "limits"], name="registry_hazardresult_one_per_limit_set"),
-            models.CheckConstraint(condition=models.Q(exposure_s__gt=0), name="registry_hazardresult_exposure_positive"),
+            models.CheckConstraint(condition=models.Q(exposure_s__gt=0), name="registry_hazardresult_exposure_positive",
+                violation_error_message=_("The exposure duration must be greater than 0 s.")),
             models.CheckConstraint(condition=models.Q(eye_mpe_J_m2__gt=0, eye_mpe_W_m2__gt=0),
-                                   name="registry_hazardresult_eye_mpe_positive"),
+                                   name="registry_hazardresult_eye_mpe_positive",
+                violation_error_message=_("The eye MPE must be greater than 0.")),
             models.CheckConstraint(
                 condition=models.Q(nohd_m__isnull=True) | models.Q(nohd_m__gte=0),
                 name="registry_hazardresult_nohd_not_negative",
+                violation_error_message=_("The NOHD cannot be negative."),
             ),
             models.CheckConstraint(
                 condition=~models.Q(nohd_unbounded=True) | models.Q(nohd_m__isnull=True),
                 name="registry_hazardresult_unbounded_has_no_nohd",
+                violation_error_message=_("An unbounded NOHD has no value in metres."),
             ),
             models.CheckConstraint(
                 condition=models.Q(od_required__isnull=True) | models.Q(od_required__gte=0),
                 name="registry_hazardresult_od_not_negative",
+                violation_error_message=_("The required optical density cannot be negative."),
             ),
         ]
 

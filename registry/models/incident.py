@@ -59,6 +59,7 @@ class Incident(ComplianceRecord):
                 condition=~models.Q(status=IncidentStatus.CLOSED)
                 | (models.Q(closed_at__isnull=False) & ~models.Q(follow_up="")),
                 name="registry_incident_closed_has_follow_up",
+                violation_error_message=_("A closed incident needs its follow-up and the time it was closed."),
             ),
         ]
 

@@ -106,10 +106,12 @@ class Laser(RetainedModel):
                 | models.Q(status__in=RETIRED_STATUSES)
                 | (models.Q(owner__isnull=False) & models.Q(location__isnull=False)),
                 name="registry_laser_hazardous_has_owner_and_location",
+                violation_error_message=_("A class 3B or 4 laser needs an owner and a location until it is disposed of or transferred."),
             ),
             models.CheckConstraint(
                 condition=models.Q(retired_on__isnull=True) | models.Q(status__in=RETIRED_STATUSES),
                 name="registry_laser_retired_on_only_when_retired",
+                violation_error_message=_("Only a disposed or transferred laser has a retirement date."),
             ),
         ]
 
@@ -188,36 +190,46 @@ class Emission(TimestampedModel):
             models.CheckConstraint(
                 condition=models.Q(wavelength_m__gte=MIN_WAVELENGTH_M, wavelength_m__lte=MAX_WAVELENGTH_M),
                 name="registry_emission_wavelength_in_range",
+                violation_error_message=_("Wavelength must be from 180 nm to 1 mm."),
             ),
             models.CheckConstraint(
                 condition=models.Q(wavelength_max_m__isnull=True)
                 | models.Q(wavelength_max_m__gt=models.F("wavelength_m"), wavelength_max_m__lte=MAX_WAVELENGTH_M),
                 name="registry_emission_wavelength_max_in_range",
+                violation_error_message=_("The longest wavelength must be above the wavelength and at most 1 mm."),
             ),
             models.CheckConstraint(
                 condition=models.Q(temporal_mode__in=[choice.value for choice in TemporalMode]),
                 name="registry_emission_temporal_mode_valid",
             ),
             models.CheckConstraint(condition=_positive_or_null("average_power_W"),
-                                   name="registry_emission_power_positive"),
+                                   name="registry_emission_power_positive",
+                violation_error_message=_("Average power must be greater than 0 W.")),
             models.CheckConstraint(condition=_positive_or_null("pulse_energy_J"),
-                                   name="registry_emission_energy_positive"),
+                                   name="registry_emission_energy_positive",
+                violation_error_message=_("Pulse energy must be greater than 0 J.")),
             models.CheckConstraint(condition=_positive_or_null("pulse_duration_s"),
-                                   name="registry_emission_duration_positive"),
+                                   name="registry_emission_duration_positive",
+                violation_error_message=_("Pulse duration must be greater than 0 s.")),
             models.CheckConstraint(condition=_positive_or_null("prf_Hz"),
-                                   name="registry_emission_prf_positive"),
+                                   name="registry_emission_prf_positive",
+                violation_error_message=_("Pulse repetition frequency must be greater than 0 Hz.")),
             models.CheckConstraint(condition=_positive_or_null("beam_diameter_m"),
-                                   name="registry_emission_diameter_positive"),
+                                   name="registry_emission_diameter_positive",
+                violation_error_message=_("Beam diameter must be greater than 0 m.")),
             # Zero divergence is a collimated beam, which hazard code reports as unbounded.
             models.CheckConstraint(
                 condition=models.Q(divergence_rad__isnull=True) | models.Q(divergence_rad__gte=0),
                 name="registry_emission_divergence_not_negative",
+                violation_error_message=_("Divergence cannot be negative (0 means collimated)."),
             ),
             models.CheckConstraint(condition=models.Q(source_size_rad__gte=0),
-                                   name="registry_emission_source_size_not_negative"),
+                                   name="registry_emission_source_size_not_negative",
+                violation_error_message=_("Apparent source size cannot be negative (0 means a point source).")),
             models.CheckConstraint(
                 condition=models.Q(fibre_na__isnull=True) | models.Q(fibre_na__gt=0, fibre_na__lte=1),
                 name="registry_emission_fibre_na_in_range",
+                violation_error_message=_("Fibre numerical aperture must be greater than 0 and at most 1."),
             ),
             # A pulse cannot last longer than the time between pulses: tau <= 1 / PRF.
             models.CheckConstraint(
@@ -225,18 +237,22 @@ class Emission(TimestampedModel):
                 | models.Q(prf_Hz__isnull=True)
                 | models.Q(pulse_duration_s__lte=models.Value(1.0) / models.F("prf_Hz")),
                 name="registry_emission_pulse_within_period",
+                violation_error_message=_("Pulse duration must not be longer than the pulse period 1/PRF."),
             ),
             models.CheckConstraint(
                 condition=models.Q(average_power_W__isnull=False) | models.Q(pulse_energy_J__isnull=False),
                 name="registry_emission_has_power_or_energy",
+                violation_error_message=_("Give the average power or the pulse energy."),
             ),
             models.CheckConstraint(
                 condition=~models.Q(temporal_mode=TemporalMode.CONTINUOUS) | models.Q(average_power_W__isnull=False),
                 name="registry_emission_cw_has_power",
+                violation_error_message=_("A continuous-wave emission needs its average power."),
             ),
             models.CheckConstraint(
                 condition=~models.Q(temporal_mode__in=PULSED_MODES) | models.Q(pulse_duration_s__isnull=False),
                 name="registry_emission_pulsed_has_duration",
+                violation_error_message=_("A pulsed emission needs its pulse duration."),
             ),
         ]
 

@@ -49,6 +49,7 @@ class Location(TimestampedModel):
             models.CheckConstraint(
                 condition=models.Q(longest_dimension_m__isnull=True) | models.Q(longest_dimension_m__gt=0),
                 name="registry_location_dimension_positive",
+                violation_error_message=_("The longest room dimension must be greater than 0 m."),
             ),
         ]
 

@@ -72,6 +72,7 @@ class Person(TimestampedModel):
             models.CheckConstraint(
                 condition=~models.Q(supervisor=models.F("id")),
                 name="registry_person_not_own_supervisor",
+                violation_error_message=_("A person cannot be their own supervisor."),
             ),
         ]
 

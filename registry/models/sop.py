@@ -36,7 +36,8 @@ class SOP(ComplianceRecord):
         verbose_name_plural = _("SOPs")
         constraints = [
             models.UniqueConstraint(fields=["laser", "version"], name="registry_sop_unique_version"),
-            models.CheckConstraint(condition=models.Q(version__gte=1), name="registry_sop_version_positive"),
+            models.CheckConstraint(condition=models.Q(version__gte=1), name="registry_sop_version_positive",
+                violation_error_message=_("SOP versions start at 1.")),
             models.CheckConstraint(
                 condition=models.Q(status__in=[choice.value for choice in SOPStatus]),
                 name="registry_sop_status_valid",
@@ -45,6 +46,7 @@ class SOP(ComplianceRecord):
                 condition=models.Q(status=SOPStatus.DRAFT)
                 | (models.Q(approved_on__isnull=False) & models.Q(approved_by__isnull=False)),
                 name="registry_sop_approved_has_approver",
+                violation_error_message=_("An approved or superseded SOP needs its approval date and approver."),
             ),
             # Only one version of a laser's SOP is in force at a time.
             models.UniqueConstraint(fields=["laser"], condition=models.Q(status=SOPStatus.APPROVED),

@@ -50,10 +50,12 @@ class TrainingRecord(ComplianceRecord):
             models.CheckConstraint(
                 condition=models.Q(valid_until__isnull=True) | models.Q(valid_until__gte=models.F("completed_on")),
                 name="registry_trainingrecord_valid_after_completion",
+                violation_error_message=_("'Valid until' cannot be before 'completed on'."),
             ),
             models.CheckConstraint(
                 condition=~models.Q(course=CourseKind.EQUIPMENT) | models.Q(laser__isnull=False),
                 name="registry_trainingrecord_equipment_names_laser",
+                violation_error_message=_("Equipment-specific training must name its laser."),
             ),
         ]
 
