@@ -16,7 +16,7 @@ from django.db import transaction
 from django.test import TestCase
 from drf_spectacular.generators import SchemaGenerator
 
-from api_world import PERSONAS, World, build_world, register_state
+from tests.registry.api_world import PERSONAS, World, build_world, register_state
 
 Body = Callable[[World], dict[str, Any]] | None
 Target = Callable[[World], int] | None
