@@ -32,7 +32,7 @@ _DESCRIPTIONS = {
     "400": "Invalid input: the body names each offending field and what was expected.",
     "401": "Not signed in (session or 'Authorization: Token <key>').",
     "403": "Signed in, but this role may not do this to this record.",
-    "404": "No such record, or not visible to the caller.",
+    "404": "No such record, or not visible to the caller (for a list: no such page).",
     "409": "The record's current state does not allow this step.",
     "412": "If-Match does not match the record's current ETag: it changed since it was read. Nothing was saved.",
     "428": "The update did not send If-Match with the ETag of the representation it modifies.",
@@ -92,7 +92,9 @@ def _error_statuses(path: str, method: str, operation: dict[str, Any]) -> list[s
         statuses.append("400")
     if not open_to_all:
         statuses += ["401", "403"]
-    if "{" in path:
+    pages = any(parameter.get("name") == "page" for parameter in operation.get("parameters", []))
+    if "{" in path or pages:
+        # A page number past the end is a 404 too.
         statuses.append("404")
     if method in {"put", "patch"}:
         statuses += ["412", "428"]

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from hazards.errors import InputError
@@ -55,6 +57,7 @@ class QuantityField(serializers.Field):
         return float(value)
 
 
+@extend_schema_field(OpenApiTypes.STR)
 class QuantityTextField(serializers.ReadOnlyField):
     """The same stored value as a string with a metric prefix: 5.32e-07 -> "532 nm"."""
 
@@ -63,7 +66,9 @@ class QuantityTextField(serializers.ReadOnlyField):
         super().__init__(**kwargs)
 
     def to_representation(self, value: float | None) -> str | None:
-        return None if value is None else format_si(float(value), self.unit)
+        if value is None:
+            return None
+        return _readable(format_si(float(value), self.unit))
 
 
 class QuantitySerializerMixin:
@@ -77,8 +82,14 @@ class QuantitySerializerMixin:
         fields: dict[str, serializers.Field] = super().get_fields()  # type: ignore[misc]
         for name, field in list(fields.items()):
             if isinstance(field, QuantityField) and f"{name}_text" not in fields:
+                example = field.example or _readable(f"1 {field.unit}")
                 fields[f"{name}_text"] = QuantityTextField(
-                    unit=field.unit, source=field.source or name,
-                    help_text=f"{name} as text with a metric prefix, e.g. '{field.example or '1 ' + field.unit}'.",
+                    unit=field.unit, source=field.source or name, allow_null=field.allow_null,
+                    help_text=f"{name} as text with a metric prefix, e.g. '{example}'.",
                 )
         return fields
+
+
+def _readable(text: str) -> str:
+    """pint's exponent notation as people write it: "J/m**2" -> "J/m²"."""
+    return text.replace("**2", "\u00b2")

@@ -54,6 +54,9 @@ REFUSED: list[tuple[str, dict[str, Any], str]] = [
     ("average_power", {"average_power": "-5 mW"}, "out of range"),
     ("average_power", {"average_power": "5 blorts"}, "unknown unit"),
     ("average_power", {"average_power": "5 J"}, "is not a power"),
+    # Text that breaks pint's own parser is still just an unknown unit.
+    ("average_power", {"average_power": "5 mW)"}, "unknown unit"),
+    ("average_power", {"average_power": "5 W/0"}, "unknown unit"),
     ("beam_diameter", {"beam_diameter": 0}, "greater than"),
     ("beam_diameter", {"beam_diameter": "NaN mm"}, "cannot read"),
     ("divergence", {"divergence": "-1 mrad"}, "out of range"),
