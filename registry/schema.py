@@ -12,6 +12,7 @@ from typing import Any
 from drf_spectacular.extensions import OpenApiSerializerFieldExtension
 from drf_spectacular.plumbing import build_basic_type
 from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import OpenApiResponse
 
 from registry.serializers.fields import QUANTITY_TEXT_PATTERN, QuantityField
 
@@ -40,6 +41,11 @@ _DESCRIPTIONS = {
 }
 
 _METHODS = ("get", "post", "put", "patch", "delete")
+
+
+def error_response(status: str) -> OpenApiResponse:
+    """An error answer to declare on a view, for statuses the hook cannot infer (429)."""
+    return OpenApiResponse(response=OpenApiTypes.OBJECT, description=_DESCRIPTIONS[status])
 
 
 class QuantityFieldExtension(OpenApiSerializerFieldExtension):

@@ -4,10 +4,14 @@ from __future__ import annotations
 from typing import Any
 
 from drf_spectacular.utils import extend_schema
+from rest_framework import serializers
+from rest_framework.authtoken.serializers import AuthTokenSerializer
 from rest_framework.authtoken.views import ObtainAuthToken
 from rest_framework.request import Request
 from rest_framework.throttling import ScopedRateThrottle, SimpleRateThrottle
 from rest_framework.views import APIView
+
+from registry.schema import error_response
 
 
 class SignInUsernameThrottle(SimpleRateThrottle):
@@ -21,6 +25,10 @@ class SignInUsernameThrottle(SimpleRateThrottle):
         if not isinstance(username, str) or not username:
             return None
         return self.cache_format % {"scope": self.scope, "ident": username.casefold()}
+
+
+class TokenAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    token = serializers.CharField(read_only=True, help_text="Send as 'Authorization: Token <token>'.")
 
 
 class TokenSignInView(ObtainAuthToken):
@@ -37,6 +45,8 @@ class TokenSignInView(ObtainAuthToken):
             "(429 with Retry-After when exceeded)."
         ),
         tags=["sign-in"],
+        request=AuthTokenSerializer,
+        responses={200: TokenAnswerSerializer, 429: error_response("429")},
     )
     def post(self, request: Request, *args: Any, **kwargs: Any) -> Any:
         return super().post(request, *args, **kwargs)

@@ -28,6 +28,8 @@ class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixi
     policy: ClassVar[Policy]
     permission_classes = [RolePolicy]
     input_serializer_classes: ClassVar[dict[str, type[BaseSerializer[Any]]]] = {}
+    # Any id reaches get_object(), so a malformed one is the API's JSON 404, not Django's page.
+    lookup_value_regex = "[^/]+"
     # Retired records stay in the register; nothing is deleted over HTTP.
     http_method_names = ["get", "post", "put", "patch", "head", "options"]
 

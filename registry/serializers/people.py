@@ -11,7 +11,7 @@ from registry.serializers.base import ScopedRelatedField
 class PersonSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     username = serializers.CharField(source="user.username", read_only=True)
     name = serializers.SerializerMethodField()
-    email = serializers.EmailField(source="user.email", read_only=True)
+    email = serializers.CharField(source="user.email", read_only=True, help_text="Empty when not on record.")
     research_group_name = serializers.SerializerMethodField()
 
     class Meta:
