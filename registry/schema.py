@@ -52,6 +52,7 @@ class QuantityFieldExtension(OpenApiSerializerFieldExtension):
     """Requests take a number in the unit or a string with units; responses give the number."""
 
     target_class = QuantityField
+    match_subclasses = True
 
     def map_serializer_field(self, auto_schema: Any, direction: str) -> dict[str, Any]:
         field: QuantityField = self.target

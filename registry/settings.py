@@ -181,6 +181,7 @@ SPECTACULAR_SETTINGS = {
     "ENUM_NAME_OVERRIDES": {
         "LaserClassEnum": "registry.models.LaserClass",
         "LaserStatusEnum": "registry.models.LaserStatus",
+        "DiameterDefinitionEnum": "registry.models.DiameterDefinition",
         "AuthorizationStatusEnum": "registry.models.AuthorizationStatus",
         "SOPStatusEnum": "registry.models.SOPStatus",
         "AuditStatusEnum": "registry.models.AuditStatus",

@@ -11,8 +11,8 @@ from typing import Any
 
 from rest_framework import serializers
 
-from hazards.beam import DIAMETER_DEFINITIONS
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
+from registry.models import DiameterDefinition
 from registry.serializers.fields import QuantityField
 
 
@@ -37,7 +37,8 @@ class EvaluationRequestSerializer(serializers.Serializer):  # type: ignore[type-
     beam_diameter = _quantity("m", "Beam diameter at the exit in m, at diameter_at.", "2 mm", required=True)
     divergence = _quantity("rad", "Full-angle divergence in rad, at diameter_at (0 for a collimated beam).",
                            "1.2 mrad", required=True)
-    diameter_at = serializers.ChoiceField(choices=list(DIAMETER_DEFINITIONS), required=False, default="1/e2",
+    # The register's choices carry labels; their values are the engine's DIAMETER_DEFINITIONS.
+    diameter_at = serializers.ChoiceField(choices=DiameterDefinition.choices, required=False, default="1/e2",
                                           help_text="The level at which diameter and divergence are given.")
     pulse_energy = _quantity("J", "Energy per pulse in J.", "0.5 J")
     pulse_duration = _quantity("s", "Pulse duration in s.", "10 ns")

@@ -10,8 +10,10 @@ from django.test import TestCase
 from rest_framework.test import APIClient
 
 from tests.registry.api_world import register_state
+from hazards.beam import DIAMETER_DEFINITIONS
 from hazards.cli import main
 from registry import services
+from registry.models import DiameterDefinition
 
 # The API takes the command's options with underscores; the command takes them with dashes.
 CASES: list[dict[str, Any]] = [
@@ -87,6 +89,9 @@ class EvaluateTests(TestCase):
                                                           "beam_diameter": "2 mm", "divergence": 0}, format="json")
         self.assertEqual(response.status_code, 400)
         self.assertEqual(list(response.json()), ["powr"])
+
+    def test_the_documented_diameter_definitions_are_the_engines(self) -> None:
+        self.assertEqual({value for value, _label in DiameterDefinition.choices}, set(DIAMETER_DEFINITIONS))
 
     def test_anonymous_callers_cannot_evaluate(self) -> None:
         response = APIClient().post("/api/v1/evaluate/", CASES[0], format="json")

@@ -55,3 +55,35 @@ def test_every_operation_answers_as_documented_and_never_5xx(case: schemathesis.
         headers={"Authorization": f"Token {lso_token}"},
         excluded_checks=[schemathesis.checks.positive_data_acceptance, schemathesis.checks.negative_data_rejection],
     )
+
+
+def _number_properties(node: object, where: str = "") -> Iterator[tuple[str, dict[str, object]]]:
+    """Every property of the schema whose value may be a JSON number, with its path."""
+    if isinstance(node, dict):
+        properties = node.get("properties")
+        if isinstance(properties, dict):
+            for name, prop in properties.items():
+                branches = prop.get("oneOf", prop.get("anyOf", [prop]))
+                if any(isinstance(branch, dict) and branch.get("type") == "number" for branch in branches):
+                    yield f"{where}.{name}", prop
+        for key, value in node.items():
+            yield from _number_properties(value, f"{where}.{key}")
+    elif isinstance(node, list):
+        for index, value in enumerate(node):
+            yield from _number_properties(value, f"{where}[{index}]")
+
+
+def test_every_number_in_the_schema_states_its_unit() -> None:
+    """Issue 5: every field documents its unit (x-unit and the description), or says it has none."""
+    document = schema.raw_schema
+    checked = 0
+    for where, prop in _number_properties(document):
+        checked += 1
+        description = str(prop.get("description", ""))
+        unit = prop.get("x-unit")
+        if not unit:
+            assert "dimensionless" in description, f"{where} states no unit"
+        else:
+            assert unit.replace("**2", "\u00b2") in description or unit in description, \
+                f"{where}: x-unit {unit} not in its description"
+    assert checked > 40
