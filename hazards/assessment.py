@@ -311,6 +311,13 @@ def _tissue_limit(beam: Beam, tissue: str, exposure_s: float, limits: str) -> _L
 
 def _check_beam(beam: Beam) -> None:
     """The consistency a Beam built in code must have; parse_assessment_request checks ranges."""
+    for field_name, value, allow_zero in (("beam_diameter", beam.beam_diameter_m, False),
+                                          ("divergence", beam.divergence_rad, True),
+                                          ("power", beam.power_W, False), ("pulse_energy", beam.pulse_energy_J, False),
+                                          ("pulse_duration", beam.pulse_duration_s, False), ("prf", beam.prf_Hz, False),
+                                          ("source_size", beam.source_size_rad, True)):
+        if value is not None and not (math.isfinite(value) and (value >= 0 if allow_zero else value > 0)):
+            raise InputError(field_name, f"must be a finite number {'>= 0' if allow_zero else '> 0'}, got {value!r}")
     if beam.diameter_at not in DIAMETER_DEFINITIONS:
         raise InputError("diameter_at", f"must be one of {', '.join(DIAMETER_DEFINITIONS)}, got {beam.diameter_at!r}")
     if beam.mode == "continuous":
@@ -335,14 +342,29 @@ def _check_beam(beam: Beam) -> None:
                                  f"energy x prf = {format_si(implied, 'W')}; give one of them or correct either")
 
 
+def _check_scenario(scenario: Scenario) -> None:
+    """Ranges a Scenario built in code must respect; parse_assessment_request checks the same."""
+    if scenario.limits not in LIMIT_SETS:
+        raise InputError("limits", f"unknown limit set {scenario.limits!r}; one of {', '.join(LIMIT_SETS)}")
+    checks = (("reflectance", scenario.diffuse_reflectance, 0.0 <= scenario.diffuse_reflectance <= 1.0),
+              ("viewing_angle", scenario.viewing_angle_rad, 0.0 <= scenario.viewing_angle_rad <= math.pi / 2),
+              ("objective_diameter", scenario.objective_diameter_m, scenario.objective_diameter_m > 0),
+              ("optics_transmission", scenario.optics_transmission, 0.0 < scenario.optics_transmission <= 1.0),
+              ("focal_length", scenario.focal_length_m, scenario.focal_length_m is None or scenario.focal_length_m > 0),
+              ("fibre_na", scenario.fibre_na, scenario.fibre_na is None or 0.0 < scenario.fibre_na < 1.0),
+              ("fibre_core", scenario.fibre_core_m, scenario.fibre_core_m is None or scenario.fibre_core_m >= 0))
+    for field_name, value, valid in checks:
+        if not valid:
+            raise InputError(field_name, f"out of range, got {value!r}")
+
+
 def assess(beam: Beam, scenario: Scenario) -> Assessment:
     """Every hazard figure for ``beam`` under ``scenario``, with warnings and working.
 
     Raises InputError for an inconsistent beam or scenario, naming the field.
     """
     _check_beam(beam)
-    if scenario.limits not in LIMIT_SETS:
-        raise InputError("limits", f"unknown limit set {scenario.limits!r}; one of {', '.join(LIMIT_SETS)}")
+    _check_scenario(scenario)
     working = Working()
     warnings: list[str] = []
     diameter = to_one_over_e(beam.beam_diameter_m, beam.diameter_at)
@@ -460,7 +482,7 @@ def _or(value: float | None, default: float) -> float:
 def _required(mapping: Mapping[str, object], key: str, unit: str, **bounds: Any) -> float:
     value = _optional(mapping, key, unit, **bounds)
     if value is None:
-        raise InputError(key, "is required")
+        raise InputError(key, f"missing; give a number in {unit} or a value with units")
     return value
 
 
@@ -509,7 +531,7 @@ def parse_assessment_request(mapping: Mapping[str, object]) -> tuple[Beam, Scena
     )
     if beam.power_W is None and beam.mode != "single_pulse" and not (
             beam.pulse_energy_J is not None and beam.prf_Hz is not None):
-        raise InputError("power", "is required (or give pulse_energy and prf for a pulse train)")
+        raise InputError("power", "missing; give the average power (or pulse_energy and prf for a pulse train)")
     _check_beam(beam)
     focal_length = _optional(mapping, "focal_length", "m", minimum=0.0, inclusive_minimum=False, maximum=100.0)
     fibre_core = _optional(mapping, "fibre_core", "m", minimum=0.0, maximum=0.01)

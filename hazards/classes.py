@@ -184,8 +184,8 @@ def check_class(labelled_class: str, wavelength_m: float, beam_diameter_1e_m: fl
     comparisons: list[ClassComparison] = []
     rows = [row for row in _ROWS if row.laser_class == limit_class and row.low_nm <= nm <= row.high_nm]
     if average_power_W is not None and rows:
-        # At a shared edge the row that starts there applies (the tables write "a <= lambda < b").
-        row = max(rows, key=lambda candidate: candidate.low_nm)
+        # At a band edge shared by two rows the higher limit is used: the warning must be a plain one.
+        row = max(rows, key=lambda candidate: candidate.power_W(wavelength_m))
         comparisons.append(ClassComparison(limit_class, "average power", average_power_W * fraction,
                                            row.power_W(wavelength_m), "W", row.time_base_s, row.source))
     elif average_power_W is not None:

@@ -72,7 +72,8 @@ def nohd(amount: float, limit: float, beam_diameter_m: float, divergence_rad: fl
         working.add(f"{what}: no hazard beyond the exit", reason, 0.0, "m", "",
                     d_c=d_c, a=beam_diameter_m, D_ap=aperture_m)
         return HazardDistance(0.0, False, form or "quadrature", {"quadrature": 0.0, "linear": 0.0}, working)
-    if divergence_rad == 0:
+    # A divergence so small that d_c / phi overflows is collimated for every practical purpose.
+    if divergence_rad == 0 or not math.isfinite(d_c / divergence_rad):
         working.add(f"{what}: collimated beam", "phi = 0 and d_c > a: the limit is exceeded at any range",
                     "unbounded", "", "", d_c=d_c, a=beam_diameter_m)
         return HazardDistance(None, True, form or "quadrature", {"quadrature": None, "linear": None}, working)
@@ -119,10 +120,15 @@ def focused_beam_nohd(amount: float, limit: float, lens_beam_diameter_m: float, 
     if not (lens_beam_diameter_m > 0 and focal_length_m > 0):
         raise ValueError("lens beam diameter and focal length must be positive")
     divergence = lens_beam_diameter_m / focal_length_m
-    result = nohd(amount, limit, 0.0, divergence, aperture_m, what="focused-beam NOHD")
-    result.working.add("focused-beam NOHD: divergence after the focus", "phi = b / f", divergence, "rad",
-                       "thin lens, waist << pupil", b=lens_beam_diameter_m, f=focal_length_m)
-    return result
+    working = Working()
+    working.add("focused-beam NOHD: divergence after the focus", "phi = b / f", divergence, "rad",
+                "thin lens, waist << pupil", b=lens_beam_diameter_m, f=focal_length_m)
+    return _with_steps_first(working, nohd(amount, limit, 0.0, divergence, aperture_m, what="focused-beam NOHD"))
+
+
+def _with_steps_first(working: Working, result: HazardDistance) -> HazardDistance:
+    working.extend(result.working)
+    return HazardDistance(result.distance_m, result.unbounded, result.form, dict(result.alternatives), working)
 
 
 def fibre_nohd(amount: float, limit: float, numerical_aperture: float, core_diameter_m: float,
@@ -136,10 +142,11 @@ def fibre_nohd(amount: float, limit: float, numerical_aperture: float, core_diam
     if not 0.0 < numerical_aperture < 1.0:
         raise ValueError(f"numerical aperture must be within 0..1, got {numerical_aperture!r}")
     divergence = 2.0 * numerical_aperture / FIBRE_NA_PER_ONE_OVER_E_HALF_ANGLE
-    result = nohd(amount, limit, core_diameter_m, divergence, aperture_m, what="fibre NOHD")
-    result.working.add("fibre NOHD: 1/e full angle from NA", "phi = 2 NA / 1.7", divergence, "rad",
-                       "multimode fibre form, ANSI Z136.2 (from memory)", NA=numerical_aperture)
-    return result
+    working = Working()
+    working.add("fibre NOHD: 1/e full angle from NA", "phi = 2 NA / 1.7", divergence, "rad",
+                "multimode fibre form, ANSI Z136.2 (from memory)", NA=numerical_aperture)
+    return _with_steps_first(working, nohd(amount, limit, core_diameter_m, divergence, aperture_m,
+                                           what="fibre NOHD"))
 
 
 def optical_aid_nohd(amount: float, limit: float, beam_diameter_m: float, divergence_rad: float,

@@ -8,13 +8,16 @@ from __future__ import annotations
 
 from typing import Any
 
-from django.contrib import admin
+from django.contrib import admin, messages
+from django.core.exceptions import PermissionDenied, ValidationError
 from django.db.models import QuerySet
+from django.forms import BaseModelForm
 from django.http import HttpRequest
 from django.utils.translation import gettext_lazy as _
 from simple_history.admin import SimpleHistoryAdmin
 
-from registry import selectors
+from registry import selectors, services
+from registry.services.hazards import hazard_results_refresh
 from registry.models import (
     SOP,
     Audit,
@@ -33,6 +36,27 @@ from registry.models import (
     SOPAcknowledgement,
     TrainingRecord,
 )
+
+
+def _run_for_each(admin_view: admin.ModelAdmin, request: HttpRequest, queryset: QuerySet[Any], action: Any,
+                  done: str) -> None:
+    """Run a workflow service on each selected row, reporting refusals one by one."""
+    person = getattr(request.user, "person", None)
+    if person is None:
+        admin_view.message_user(request, _("Your account has no person record, so it cannot act in the register."),
+                                messages.ERROR)
+        return
+    succeeded = 0
+    for record in queryset:
+        try:
+            action(record, person)
+        except (ValidationError, PermissionDenied) as error:
+            text = "; ".join(error.messages) if isinstance(error, ValidationError) else str(error)
+            admin_view.message_user(request, f"{record}: {text}", messages.ERROR)
+        else:
+            succeeded += 1
+    if succeeded:
+        admin_view.message_user(request, f"{done}: {succeeded}.", messages.SUCCESS)
 
 
 class RetainedAdmin(SimpleHistoryAdmin):
@@ -92,6 +116,7 @@ class LaserAdmin(RetainedAdmin):
     autocomplete_fields = ["owner", "location"]
     readonly_fields = ["status", "status_note", "review_comments", "retired_on", "created_at", "updated_at"]
     inlines = [EmissionInline]
+    actions = ["approve_registrations", "refresh_hazard_results"]
     fieldsets = [
         (None, {"fields": ["asset_tag", ("manufacturer", "model_name"), "serial_number",
                            ("laser_type", "gain_medium"), ("labelled_class", "embedded_class"), "description"]}),
@@ -99,6 +124,24 @@ class LaserAdmin(RetainedAdmin):
         (_("Status"), {"fields": ["status", "status_note", "review_comments", "received_on", "commissioned_on",
                                   "retired_on", "created_at", "updated_at"]}),
     ]
+
+    def save_related(self, request: HttpRequest, form: BaseModelForm, formsets: Any, change: bool) -> None:
+        super().save_related(request, form, formsets, change)
+        # Emissions edited inline bypass the emission services; their results follow here.
+        hazard_results_refresh(emissions=form.instance.emissions.select_related("laser"),
+                               by=getattr(request.user, "person", None))
+
+    @admin.action(description=_("Approve the selected registrations (pending review -> active)"))
+    def approve_registrations(self, request: HttpRequest, queryset: QuerySet[Laser]) -> None:
+        _run_for_each(self, request, queryset, lambda laser, by: services.laser_approve(laser=laser, by=by),
+                      "Lasers approved")
+
+    @admin.action(description=_("Recompute the hazard results of the selected lasers"))
+    def refresh_hazard_results(self, request: HttpRequest, queryset: QuerySet[Laser]) -> None:
+        summary = hazard_results_refresh(emissions=selectors.emission_list().filter(laser__in=queryset))
+        self.message_user(request, f"Emissions assessed: {summary.assessed}.", messages.SUCCESS)
+        for emission, reason in summary.not_assessed:
+            self.message_user(request, f"{emission}: not assessed: {reason}", messages.WARNING)
 
 
 @admin.register(Emission)
@@ -108,6 +151,10 @@ class EmissionAdmin(SimpleHistoryAdmin):
     search_fields = ["laser__asset_tag", "label"]
     list_select_related = ["laser"]
     autocomplete_fields = ["laser"]
+
+    def save_model(self, request: HttpRequest, obj: Emission, form: BaseModelForm, change: bool) -> None:
+        super().save_model(request, obj, form, change)
+        hazard_results_refresh(emissions=[obj], by=getattr(request.user, "person", None))
 
 
 @admin.register(HazardResult)
@@ -144,6 +191,13 @@ class AuthorizationAdmin(RetainedAdmin):
     list_select_related = ["person__user", "laser", "requested_by__user", "decided_by__user"]
     autocomplete_fields = ["person", "laser", "requested_by", "decided_by"]
     readonly_fields = ["status", "decided_by", "decided_at", "decision_reason", "retired_at", "retirement_reason"]
+    actions = ["approve_requests"]
+
+    @admin.action(description=_("Approve the selected requests (checks training and SOP acknowledgement)"))
+    def approve_requests(self, request: HttpRequest, queryset: QuerySet[Authorization]) -> None:
+        _run_for_each(self, request, queryset,
+                      lambda authorization, by: services.authorization_approve(authorization=authorization, by=by),
+                      "Authorizations approved")
 
 
 class SOPAcknowledgementInline(admin.TabularInline):

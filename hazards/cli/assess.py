@@ -40,10 +40,12 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         "judgement, local codes and licensed practice.")
     for option, help_text in _VALUE_OPTIONS:
         parser.add_argument(f"--{option}", help=help_text)
-    parser.add_argument("--diameter-at", choices=DIAMETER_DEFINITIONS, default="1/e2",
-                        help="the level at which diameter and divergence are given (default 1/e2)")
-    parser.add_argument("--limits", choices=LIMIT_SETS, default=DEFAULT_LIMITS,
-                        help=f"exposure-limit set (default {DEFAULT_LIMITS})")
+    # No argparse choices: a wrong value then gets the same one-line error, naming the field, as any other.
+    parser.add_argument("--diameter-at", default="1/e2",
+                        help=f"the level at which diameter and divergence are given: "
+                        f"{' or '.join(DIAMETER_DEFINITIONS)} (default 1/e2)")
+    parser.add_argument("--limits", default=DEFAULT_LIMITS,
+                        help=f"exposure-limit set: {', '.join(LIMIT_SETS)} (default {DEFAULT_LIMITS})")
     parser.add_argument("--class", dest="laser_class", metavar="CLASS",
                         help=f"labelled laser class, checked for plausibility ({', '.join(LASER_CLASSES)})")
     parser.add_argument("--deliberate", action="store_true",

@@ -107,6 +107,7 @@ def as_text(record: dict[str, Any]) -> str:
             lines.append(f"    {rule}: " + (f"{value:.4g} J/m^2" if value is not None else "not applicable"))
         lines.append(f"  whole train: H = {record['radiant_exposure_J_m2']:.4g} J/m^2, "
                      f"E = {record['irradiance_W_m2']:.4g} W/m^2 averaged over the exposure")
+        lines.append(f"  source: {record['citations'][record['governing']]}")
     else:
         lines += [
             f"  H = {record['radiant_exposure_J_m2']:.4g} J/m^2 over the exposure duration "

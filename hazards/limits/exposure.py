@@ -216,7 +216,7 @@ def evaluate_limit(limit_set: LimitSet, tissue: str, wavelength_m: FloatArray, d
     mechanism = mechanisms[np.where(found, evaluation.row_index, len(evaluation.rows))]
     field_of_view = _field_of_view_mrad(evaluation, found) * 1e-3
     working = notes = None
-    if scalar:
+    if scalar and bool(found.all()):
         working, notes = _working(limit_set, tissue, evaluation, wavelength_m, duration_s, source_size_rad,
                                   duration_basis)
     return ExposureLimit(

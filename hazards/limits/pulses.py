@@ -42,7 +42,15 @@ PULSE_RULES = ("single_pulse", "average_power", "reduced_single_pulse")
 
 @dataclass(frozen=True)
 class PulseTrainLimit:
-    """Per-pulse and whole-train limits of a regular pulse train (arrays; 0-d for scalars)."""
+    """Per-pulse and whole-train limits of a regular pulse train (arrays; 0-d for scalars).
+
+    ``candidates`` maps each rule of PULSE_RULES to its per-pulse H (NaN where the rule does not
+    apply); ``rule_limits`` keeps the exposure limit each rule started from (for one pulse, for
+    the whole exposure, for the pulse or group on the rows marked for C_P), so that every
+    candidate can be traced to its row. ``aperture_m`` is the limiting aperture of the governing
+    rule: the one for the whole exposure when the average-power rule governs, else the one for a
+    single pulse (the two differ only where the aperture depends on duration, UV and IR-B/C).
+    """
 
     wavelength_m: FloatArray
     exposure_s: FloatArray
@@ -58,6 +66,7 @@ class PulseTrainLimit:
     pulses_per_group: FloatArray
     correction_C_P: FloatArray
     aperture_m: FloatArray
+    rule_limits: dict[str, ExposureLimit]
     limits: str
     tissue: str
     duration_basis: str
@@ -96,9 +105,16 @@ class PulseTrainLimit:
             "pulses_per_group": item(self.pulses_per_group),
             "correction_C_P": item(self.correction_C_P),
             "aperture_m": item(self.aperture_m),
+            "citations": {rule: _citation(limit, index) for rule, limit in self.rule_limits.items()},
             "caution": CAUTION,
             "engine_version": ENGINE_VERSION,
         }
+
+
+def _citation(limit: ExposureLimit, index: int) -> str | None:
+    """The citation of the row behind one rule's limit at one point (None: no row holds)."""
+    row = int(limit.row_index.reshape(-1)[index])
+    return limit.rows[row].citation if row >= 0 else None
 
 
 def pulse_train_limit(
@@ -181,7 +197,9 @@ def _evaluate_train(limit_set: LimitSet, tissue: str, wavelength: FloatArray, ex
         wavelength_m=wavelength, exposure_s=exposure, pulse_duration_s=pulse_duration, prf_Hz=prf,
         source_size_rad=source_size, per_pulse_J_m2=per_pulse, radiant_exposure_J_m2=total,
         irradiance_W_m2=total / exposure, candidates=candidates, governing=governing, pulses_N=pulses,
-        pulses_per_group=per_group, correction_C_P=correction, aperture_m=single.aperture_m,
+        pulses_per_group=per_group, correction_C_P=correction,
+        aperture_m=np.where(governing == "average_power", whole.aperture_m, single.aperture_m),
+        rule_limits={"single_pulse": single, "average_power": whole, "reduced_single_pulse": reducible},
         limits=limit_set.name, tissue=tissue, duration_basis=duration_basis,
         notes=tuple(notes or limit_set.notes), working=working,
     )

@@ -30,6 +30,7 @@ from registry.models import (
     Eyewear,
     EyewearMarking,
     Finding,
+    HazardResult,
     Incident,
     Laser,
     Location,
@@ -40,6 +41,7 @@ from registry.models import (
     TrainingRecord,
 )
 from registry.services._common import quantity
+from registry.services.hazards import hazard_results_refresh
 from registry.services.lasers import emission_values
 from registry.services.people import person_sync_account
 
@@ -64,6 +66,7 @@ class CampusSummary:
     counts: dict[str, int] = field(default_factory=dict)
     saved_rows: int = 0
     logins: list[DemoLogin] = field(default_factory=list)
+    not_assessed: list[tuple[str, str]] = field(default_factory=list)
 
 
 def campus_read(path: Path = DEFAULT_CAMPUS_FILE) -> dict[str, Any]:
@@ -317,11 +320,15 @@ def campus_load(*, data: Mapping[str, Any], today: datetime.date | None = None,
     """
     loader = _Loader(data, today=today or timezone.localdate(), set_demo_passwords=set_demo_passwords)
     loader.load()
+    hazards = hazard_results_refresh(
+        emissions=Emission.objects.select_related("laser").prefetch_related("hazard_results"), only_stale=True)
     counts = {
         "locations": Location.objects.count(), "lasers": Laser.objects.count(), "emissions": Emission.objects.count(),
         "people": Person.objects.count(), "training records": TrainingRecord.objects.count(),
         "authorizations": Authorization.objects.count(), "SOPs": SOP.objects.count(),
         "eyewear": Eyewear.objects.count(), "audits": Audit.objects.count(), "findings": Finding.objects.count(),
-        "incidents": Incident.objects.count(),
+        "incidents": Incident.objects.count(), "hazard results": HazardResult.objects.count(),
     }
-    return CampusSummary(site=data["site"], counts=counts, saved_rows=loader.saved_rows, logins=loader.logins)
+    return CampusSummary(site=data["site"], counts=counts, saved_rows=loader.saved_rows + hazards.assessed,
+                         logins=loader.logins, not_assessed=[(str(emission), reason)
+                                                             for emission, reason in hazards.not_assessed])

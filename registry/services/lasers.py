@@ -9,6 +9,7 @@ from django.db import transaction
 from django.utils import timezone
 
 from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from registry.services.hazards import hazard_results_refresh
 from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
 
 S = LaserStatus
@@ -67,7 +68,11 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
     for name, value in fields.items():
         setattr(laser, name, value)
-    return validated_save(laser, by=by)
+    validated_save(laser, by=by)
+    if {"labelled_class", "embedded_class"} & set(fields):
+        # The class enters the assessment (its plausibility check), so the results follow it.
+        hazard_results_refresh(emissions=laser.emissions.select_related("laser"), by=by)
+    return laser
 
 
 def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
@@ -148,13 +153,19 @@ def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
 
 @transaction.atomic
 def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
-    """Add an emission. Quantities are SI numbers or strings with units ("532 nm", "5 mW")."""
+    """Add an emission and assess it. Quantities are SI numbers or strings with units
+    ("532 nm", "5 mW"). An emission the engine cannot assess yet is saved without results."""
     emission = Emission(laser=laser)
     _apply_emission_fields(emission, fields)
-    return validated_save(emission, by=by)
+    validated_save(emission, by=by)
+    hazard_results_refresh(emissions=[emission], by=by)
+    return emission
 
 
 @transaction.atomic
 def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
+    """Change an emission; its hazard results are recomputed (or dropped if it cannot be assessed)."""
     _apply_emission_fields(emission, fields)
-    return validated_save(emission, by=by)
+    validated_save(emission, by=by)
+    hazard_results_refresh(emissions=[emission], by=by)
+    return emission

@@ -5,9 +5,12 @@ import json
 import math
 from typing import Any
 
+import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from hazards.assessment import Beam, Scenario, assess, parse_assessment_request
+from hazards.assessment import Beam, Scenario, assess, json_safe, parse_assessment_request
 from hazards.cli import main
 from hazards.errors import InputError
 from hazards.limits import pulse_train_limit
@@ -186,10 +189,20 @@ def test_bad_requests_name_the_field(changes: dict[str, object], field: str) -> 
     assert error.value.field == field
 
 
-def test_a_beam_built_in_code_is_checked_too() -> None:
+@pytest.mark.parametrize(("beam", "scenario", "field"), [
+    (Beam(532e-9, None, 2e-3, 1e-3), Scenario(), "power"),
+    (Beam(532e-9, 5.0, -2e-3, 1e-3), Scenario(), "beam_diameter"),
+    (Beam(532e-9, 5.0, 2e-3, float("nan")), Scenario(), "divergence"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3, diameter_at="fwhm"), Scenario(), "diameter_at"),  # type: ignore[arg-type]
+    (Beam(90e-9, 5.0, 2e-3, 1e-3), Scenario(), "wavelength"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(diffuse_reflectance=2.0), "reflectance"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(fibre_na=1.5), "fibre_na"),
+    (Beam(532e-9, 5.0, 2e-3, 1e-3), Scenario(limits="ansi"), "limits"),
+])
+def test_a_beam_or_scenario_built_in_code_is_checked_too(beam: Beam, scenario: Scenario, field: str) -> None:
     with pytest.raises(InputError) as error:
-        assess(Beam(532e-9, None, 2e-3, 1e-3), Scenario())
-    assert error.value.field == "power"
+        assess(beam, scenario)
+    assert error.value.field == field
 
 
 def test_the_command_prints_json(capsys: pytest.CaptureFixture[str]) -> None:
@@ -226,3 +239,43 @@ def test_deliberate_viewing_takes_the_long_default() -> None:
     result = _assess(**GREEN_5W, deliberate=True)
     assert result["exposure_basis"]["exposure_s"] == 30000.0
     assert "deliberate" in result["exposure_basis"]["how"]
+
+
+@pytest.mark.parametrize(("value", "expected"), [
+    (float("inf"), None),
+    (float("nan"), None),
+    (np.float64(2.5), 2.5),
+    (np.array(3.0), 3.0),
+    (np.array([1.0, np.inf]), [1.0, None]),
+    ({"a": (np.int64(2), -np.inf)}, {"a": [2, None]}),
+])
+def test_json_safe_leaves_only_finite_plain_values(value: object, expected: object) -> None:
+    assert json_safe(value) == expected
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(min_value=190e-9, max_value=0.9e-3), st.floats(min_value=1e-6, max_value=1e4),
+       st.floats(min_value=1e-5, max_value=0.1), st.floats(min_value=0.0, max_value=0.5),
+       st.sampled_from(["icnirp2013", "eu2006"]))
+def test_any_continuous_emission_gives_finite_json(wavelength: float, power: float, diameter: float,
+                                                   divergence: float, limits: str) -> None:
+    result = _assess(wavelength=wavelength, power=power, beam_diameter=diameter, divergence=divergence,
+                     limits=limits)
+    json.dumps(result, allow_nan=False)
+    assert (result["nohd_m"] is None) == result["nohd_unbounded"]
+    assert result["od_required"] >= 0
+
+
+@pytest.mark.parametrize(("option", "value", "field"), [
+    ("--limits", "ansi2014", "limits"), ("--diameter-at", "fwhm", "diameter_at"), ("--class", "IIIb", "laser_class"),
+    ("--wavelength", "90nm", "wavelength"), ("--exposure", "5 kg", "exposure"),
+])
+def test_every_bad_option_is_one_line_naming_the_field(capsys: pytest.CaptureFixture[str], option: str, value: str,
+                                                       field: str) -> None:
+    arguments = {"--wavelength": "532nm", "--power": "5W", "--beam-diameter": "2mm", "--divergence": "1mrad",
+                 option: value}
+    status = main(["assess", *[part for pair in arguments.items() for part in pair]])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert err.startswith(f"error: {field}:")
+    assert err.count("\n") == 1

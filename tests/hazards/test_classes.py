@@ -19,6 +19,8 @@ SMALL_BEAM = 1e-3  # 1/e diameter well inside every measurement aperture
     # class 3R: 5 mW in the visible (5 x class 2), IEC 60825-1 as quoted in university laser manuals
     ("3R", 635e-9, 4.9e-3, False),
     ("3R", 635e-9, 20e-3, True),
+    ("3R", 700e-9, 5e-3, False),  # band edge: the visible 5 mW applies up to 700 nm inclusive
+    ("1", 400e-9, 39e-6, False),  # band edge: the 400-700 nm row, not the UV-A one
     # class 3B: 0.5 W CW from 315 nm to the far infrared (UNC Asheville laser safety page)
     ("3B", 1064e-9, 0.4, False),
     ("3B", 10.6e-6, 0.5, False),

@@ -84,6 +84,12 @@ def test_a_collimated_beam_above_the_mpe_is_unbounded_not_infinite() -> None:
     assert all(value is None for value in result.alternatives.values())
 
 
+def test_a_divergence_too_small_to_divide_by_is_unbounded_too() -> None:
+    # 0.5 m / 5e-324 rad overflows to infinity; that must not leak out as a distance
+    result = nohd(5.0, VISIBLE_025S_W_M2, 2e-3, 5e-324, PUPIL)
+    assert (result.distance_m, result.unbounded) == (None, True)
+
+
 def test_a_collimated_beam_below_the_mpe_is_simply_zero() -> None:
     result = nohd(0.5e-3, VISIBLE_025S_W_M2, 2e-3, 0.0, PUPIL)
     assert (result.distance_m, result.unbounded) == (0.0, False)

@@ -12,12 +12,22 @@ import math
 import numpy as np
 import pytest
 
-from hazards.limits import exposure_limit
+from hazards.limits import default_exposure_duration, exposure_duration_basis, exposure_limit
 
-C_A = lambda nm: 10 ** (0.002 * (nm - 700))  # noqa: E731  2006/25/EC Annex II Table 2.5, 700-1050 nm
-C_B = lambda nm: 10 ** (0.02 * (nm - 450))  # noqa: E731  2006/25/EC Annex II Table 2.5, 450-700 nm
-C_C = lambda nm: 10 ** (0.018 * (nm - 1150))  # noqa: E731  2006/25/EC Annex II Table 2.5, 1150-1200 nm
-T2 = lambda mrad: 10 * 10 ** ((mrad - 1.5) / 98.5)  # noqa: E731  2006/25/EC Annex II Table 2.5
+def C_A(nm: float) -> float:  # noqa: N802 (the tables' symbol)
+    return float(10 ** (0.002 * (nm - 700)))  # 2006/25/EC Annex II Table 2.5, 700-1050 nm
+
+
+def C_B(nm: float) -> float:  # noqa: N802
+    return float(10 ** (0.02 * (nm - 450)))  # 2006/25/EC Annex II Table 2.5, 450-700 nm
+
+
+def C_C(nm: float) -> float:  # noqa: N802
+    return float(10 ** (0.018 * (nm - 1150)))  # 2006/25/EC Annex II Table 2.5, 1150-1200 nm
+
+
+def T2(mrad: float) -> float:  # noqa: N802
+    return float(10 * 10 ** ((mrad - 1.5) / 98.5))  # 2006/25/EC Annex II Table 2.5, 1.5-100 mrad
 
 
 # (wavelength nm, duration s, source size mrad, expected H J/m^2)
@@ -300,3 +310,32 @@ def test_arrays_broadcast_and_agree_with_single_points() -> None:
                                     limits="eu2006")
             assert float(table.radiant_exposure_J_m2[row, column]) == float(single.radiant_exposure_J_m2)
             assert str(table.governing[row, column]) == str(single.governing)
+
+
+@pytest.mark.parametrize(("wavelength_m", "deliberate", "duration_s", "basis"), [
+    (532e-9, False, 0.25, "aversion response"),  # common practice, no source (aversion response)
+    (400e-9, False, 0.25, "aversion response"),  # common practice, no source
+    (700e-9, False, 0.25, "aversion response"),  # common practice, no source
+    (1064e-9, False, 10.0, "infrared"),  # common practice, no source
+    (10.6e-6, False, 10.0, "infrared"),  # common practice, no source
+    (308e-9, False, 3e4, "ultraviolet"),  # common practice, no source (a working day)
+    (532e-9, True, 3e4, "deliberate long viewing"),  # common practice, no source
+    ("1064 nm", True, 3e4, "deliberate long viewing"),  # common practice, no source
+])
+def test_default_durations_follow_common_practice(wavelength_m: float | str, deliberate: bool, duration_s: float,
+                                                  basis: str) -> None:
+    assert default_exposure_duration(wavelength_m, deliberate=deliberate) == duration_s  # type: ignore[arg-type]
+    assert basis in exposure_duration_basis(wavelength_m, deliberate=deliberate)  # type: ignore[arg-type]
+
+
+def test_the_working_cites_every_step_and_reports_the_duration_basis() -> None:
+    result = exposure_limit(1064e-9, 10.0, limits="eu2006", duration_basis=exposure_duration_basis(1064e-9))
+    steps = result.to_dict()["working"]
+    assert all(step["source"] for step in steps)
+    assert steps[2]["what"] == "exposure duration" and "common practice" in steps[2]["formula"]
+    factors = {step["what"]: step["value"] for step in steps if step["what"].startswith("factor ")}
+    # 2006/25/EC Annex II Table 2.5: C_A = 5 and C_C = 1 at 1064 nm, C_E = 1 for a point source
+    assert factors["factor C_A"] == 5.0 and factors["factor C_C"] == 1.0 and factors["factor C_E"] == 1.0
+    governing = next(step for step in steps if step["what"].startswith("exposure limit H"))
+    assert governing["value"] == pytest.approx(500.0)
+    assert "Table 2.3, 700-1400 nm" in governing["source"]

@@ -8,7 +8,8 @@ from django.contrib import admin
 from django.test import Client
 from django.urls import reverse
 
-from registry.models import Laser, Person
+from hazards.limits import LIMIT_SETS
+from registry.models import Authorization, Laser, Person
 from registry.services import person_create
 from tests import factories
 
@@ -105,3 +106,41 @@ def test_a_laser_user_has_no_admin_access(client: Client) -> None:
     response = client.get(_changelist(Laser))
     assert response.status_code == 302
     assert Person.objects.count() == 1
+
+
+def test_the_approve_action_runs_the_review_and_reports_refusals(lso_client: Client) -> None:
+    ready = factories.LaserFactory.create(status="pending_review")
+    factories.EmissionFactory.create(laser=ready)
+    empty = factories.LaserFactory.create(status="pending_review")
+    response = lso_client.post(_changelist(Laser), {"action": "approve_registrations",
+                                                    "_selected_action": [ready.pk, empty.pk]}, follow=True)
+    texts = [str(message) for message in response.context["messages"]]
+    assert f"{empty}: {empty.asset_tag} has no emission; add its beam parameters first." in texts
+    assert "Lasers approved: 1." in texts
+    ready.refresh_from_db()
+    empty.refresh_from_db()
+    assert (ready.status, empty.status) == ("active", "pending_review")
+
+
+def test_the_authorization_action_refuses_missing_prerequisites(lso_client: Client) -> None:
+    request = factories.AuthorizationFactory.create()
+    response = lso_client.post(_changelist(Authorization), {"action": "approve_requests",
+                                                            "_selected_action": [request.pk]}, follow=True)
+    texts = [str(message) for message in response.context["messages"]]
+    assert any("has no valid general laser safety training" in text for text in texts)
+    request.refresh_from_db()
+    assert request.status == "requested"
+
+
+def test_emissions_saved_in_the_admin_are_assessed(lso_client: Client) -> None:
+    emission = factories.EmissionFactory.create()
+    assert not emission.hazard_results.exists()
+    response = lso_client.post(reverse("admin:registry_emission_change", args=[emission.pk]), {
+        "laser": emission.laser.pk, "label": "output", "wavelength_m": "5.32e-07", "temporal_mode": "cw",
+        "average_power_W": "0.02", "beam_diameter_m": "0.001", "diameter_definition": "1/e2",
+        "divergence_rad": "0.001", "source_size_rad": "0",
+    })
+    assert response.status_code == 302
+    emission.refresh_from_db()
+    assert emission.average_power_W == 0.02
+    assert emission.hazard_results.count() == len(LIMIT_SETS)

@@ -38,6 +38,8 @@ class Command(BaseCommand):
             raise CommandError("; ".join(error.messages)) from None
         counts = ", ".join(f"{number} {name}" for name, number in summary.counts.items())
         self.stdout.write(f"{summary.site}: {counts} ({summary.saved_rows} rows written).")
+        for emission, reason in summary.not_assessed:
+            self.stderr.write(f"  not assessed: {emission}: {reason}")
         for login in summary.logins:
             if login.password is not None:
                 self.stdout.write(f"  {login.role:<11} username {login.username:<11} password {login.password}")

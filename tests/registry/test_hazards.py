@@ -1,0 +1,141 @@
+"""Hazard results: an emission mapped to the engine, assessed under every limit set and
+stored beside the emission; refreshed when the emission changes."""
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from hazards.assessment import assess
+from hazards.limits import LIMIT_SETS
+from registry.models import Emission, HazardResult, Person
+from registry.services import emission_create, emission_update, laser_update
+from registry.services.campus import campus_load, campus_read
+from registry.services.hazards import emission_beam, emission_scenario, hazard_results_refresh
+from tests import factories
+
+pytestmark = pytest.mark.django_db
+
+
+@pytest.fixture
+def researcher() -> Person:
+    return factories.PersonFactory.create(role="researcher")
+
+
+def helium_neon(researcher: Person, **changes: object) -> Emission:
+    laser = factories.LaserFactory.create(labelled_class="3R", owner=researcher)
+    fields: dict[str, object] = {"label": "red line", "wavelength_m": "632.8 nm", "temporal_mode": "cw",
+                                 "average_power_W": "5 mW", "beam_diameter_m": "0.8 mm", "divergence_rad": "1 mrad",
+                                 "diameter_definition": "1/e2"}
+    fields.update(changes)
+    return emission_create(laser=laser, by=researcher, **fields)
+
+
+def test_a_new_emission_is_assessed_under_every_limit_set(researcher: Person) -> None:
+    emission = helium_neon(researcher)
+    results = {result.limits: result for result in emission.hazard_results.all()}
+    assert set(results) == set(LIMIT_SETS)
+    for result in results.values():
+        # Visible beam, aversion response: 0.25 s (common practice; the engine's default).
+        assert result.exposure_s == pytest.approx(0.25)
+        # EU 2006/25/EC Annex II Table 2.2, 400-700 nm, 1.8e-5 s to 10 s: H = 18 t^0.75 J/m^2,
+        # so 6.36 J/m^2 over 0.25 s, E = 25.5 W/m^2.
+        assert result.eye_mpe_J_m2 == pytest.approx(18 * 0.25 ** 0.75, rel=0.01)
+        assert result.eye_mpe_W_m2 == pytest.approx(18 * 0.25 ** 0.75 / 0.25, rel=0.01)
+        # The whole 0.8 mm beam passes the 7 mm limiting aperture: 5 mW / (pi (3.5 mm)^2) = 130 W/m^2,
+        # OD = log10(130 / 25.5) = 0.71, rounded up to 1 (EN 207 Annex B).
+        assert result.od_required == 1
+        assert result.nohd_m is not None and result.nohd_m > 0
+        assert result.working and all("formula" in step for step in result.working)
+        assert result.engine_version
+
+
+def test_the_stored_figures_are_the_engines_own(researcher: Person) -> None:
+    emission = helium_neon(researcher)
+    for limits in LIMIT_SETS:
+        expected = assess(emission_beam(emission), emission_scenario(emission, limits=limits))
+        stored = emission.hazard_results.get(limits=limits)
+        assert stored.nohd_m == pytest.approx(expected.nohd.distance_m)
+        assert stored.diffuse_hazard_distance_m == pytest.approx(expected.diffuse.distance_m)
+        assert stored.od_required == expected.od_required
+        assert stored.en207_marking == " + ".join(expected.en207.markings)
+
+
+def test_ten_times_the_power_needs_one_more_optical_density(researcher: Person) -> None:
+    emission = helium_neon(researcher)
+    before = emission.hazard_results.get(limits="icnirp2013")
+    emission_update(emission=emission, by=researcher, average_power_W="50 mW")
+    after = emission.hazard_results.get(limits="icnirp2013")
+    # OD = log10(exposure / MPE): ten times the exposure adds exactly 1 (0.71 -> 1.71, rounded up to 2).
+    assert (before.od_required, after.od_required) == (1, 2)
+    assert after.nohd_m > before.nohd_m
+    assert after.history.count() == 2
+
+
+def test_an_emission_without_divergence_keeps_no_result_until_it_has_one(researcher: Person) -> None:
+    emission = helium_neon(researcher, divergence_rad=None)
+    assert not emission.hazard_results.exists()
+    summary = hazard_results_refresh(emissions=[emission])
+    assert [(item.pk, reason) for item, reason in summary.not_assessed] == [
+        (emission.pk, f"needed to assess the hazard of {emission}")]
+    emission_update(emission=emission, by=researcher, divergence_rad="1 mrad")
+    assert emission.hazard_results.count() == len(LIMIT_SETS)
+
+
+def test_a_collimated_beam_above_the_mpe_has_an_unbounded_nohd(researcher: Person) -> None:
+    emission = helium_neon(researcher, divergence_rad=0)
+    result = emission.hazard_results.get(limits="icnirp2013")
+    assert (result.nohd_m, result.nohd_unbounded) == (None, True)
+
+
+def test_a_tunable_range_is_assessed_at_its_worst_wavelength(researcher: Person) -> None:
+    emission = helium_neon(researcher, label="tunable", wavelength_m="700 nm", wavelength_max_m="1000 nm",
+                           average_power_W="1 W", beam_diameter_m="1 mm", divergence_rad="1 mrad")
+    result = emission.hazard_results.get(limits="icnirp2013")
+    ends = [assess(emission_beam(emission, wavelength_m=wavelength), emission_scenario(emission, limits="icnirp2013"))
+            for wavelength in (700e-9, 1000e-9)]
+    assert result.nohd_m >= max(item.nohd.distance_m for item in ends) * (1 - 1e-9)
+    assert result.od_required >= max(item.od_required for item in ends)
+    assert any(warning.startswith("Tunable from 700 nm to 1 µm") for warning in result.warnings)
+
+
+def test_pulses_shorter_than_the_tables_are_assessed_at_100_fs(researcher: Person) -> None:
+    emission = factories.EmissionFactory.create(temporal_mode="repetitive", pulse_duration_s=35e-15, prf_Hz=1e3,
+                                                pulse_energy_J=4e-3, average_power_W=4.0)
+    beam = emission_beam(emission)
+    assert beam.pulse_duration_s == 1e-13
+    assert beam.prf_Hz == 1e3
+
+
+def test_changing_the_laser_class_refreshes_its_results(researcher: Person) -> None:
+    emission = helium_neon(researcher)
+    first = emission.hazard_results.get(limits="icnirp2013").computed_at
+    laser_update(laser=emission.laser, by=researcher, labelled_class="2")
+    result = emission.hazard_results.get(limits="icnirp2013")
+    assert result.computed_at > first
+    # 5 mW is beyond the class 2 limit of 1 mW (IEC 60825-1:2014 Table 4), so the class check warns.
+    assert any("class" in warning.lower() for warning in result.warnings)
+
+
+def test_refreshing_current_results_writes_nothing(researcher: Person) -> None:
+    emission = helium_neon(researcher)
+    history = HazardResult.history.count()
+    summary = hazard_results_refresh(emissions=Emission.objects.filter(pk=emission.pk), only_stale=True)
+    assert (summary.assessed, summary.not_assessed) == (0, [])
+    assert HazardResult.history.count() == history
+
+
+def test_the_demo_campus_stores_results_for_the_emissions_it_can_assess() -> None:
+    summary = campus_load(data=campus_read())
+    failed = {name for name, _ in summary.not_assessed}
+    assessed = Emission.objects.exclude(hazard_results=None)
+    assert assessed.count() + len(failed) == Emission.objects.count()
+    for emission in assessed:
+        assert emission.hazard_results.count() == len(LIMIT_SETS)
+        for result in emission.hazard_results.all():
+            assert result.nohd_unbounded or (result.nohd_m is not None and math.isfinite(result.nohd_m))
+
+
+def test_every_demo_emission_assesses_without_error() -> None:
+    summary = campus_load(data=campus_read())
+    assert summary.not_assessed == []
