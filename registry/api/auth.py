@@ -1,6 +1,7 @@
 """Token sign-in for scripts and other systems, throttled against password guessing."""
 from __future__ import annotations
 
+import hashlib
 from typing import Any
 
 from drf_spectacular.utils import extend_schema
@@ -24,7 +25,9 @@ class SignInUsernameThrottle(SimpleRateThrottle):
         username = request.data.get("username") if hasattr(request.data, "get") else None
         if not isinstance(username, str) or not username:
             return None
-        return self.cache_format % {"scope": self.scope, "ident": username.casefold()}
+        # Hashed: a username may hold characters that cache backends refuse in keys.
+        ident = hashlib.sha256(username.casefold().encode()).hexdigest()
+        return self.cache_format % {"scope": self.scope, "ident": ident}
 
 
 class TokenAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]

@@ -87,10 +87,8 @@ def build_world() -> World:
 
     laser = _active_laser(asset_tag="TST-0001", owner=owner, room=room, by=lso)
     emission = laser.emissions.get()
-    # Stored figures for access tests; the physics is tested in tests/hazards.
-    result = HazardResult.objects.create(
-        emission=emission, limits="icnirp2013", exposure_s=0.25, eye_mpe_J_m2=6.36, eye_mpe_W_m2=25.4,
-        nohd_m=120.0, od_required=3.3, en207_marking="D LB3", engine_version="test", computed_at=timezone.now())
+    # Computed by the emission services (registry.services.hazards).
+    result = emission.hazard_results.get(limits="icnirp2013")
     pending_laser = services.laser_register(by=owner, asset_tag="TST-0002", laser_type="diode",
                                             labelled_class="3B", owner=owner, location=room)
     services.emission_create(laser=pending_laser, by=owner, wavelength_m="405 nm", temporal_mode="cw",

@@ -22,6 +22,8 @@ CASES: list[dict[str, Any]] = [
      "limits": "eu2006"},
     {"wavelength": "1064 nm", "pulse_energy": "0.5 J", "pulse_duration": "10 ns", "beam_diameter": "6 mm",
      "divergence": "0.5 mrad", "exposure": "10 s"},
+    {"wavelength": "1064 nm", "pulse_energy": "0.5 J", "pulse_duration": "10 ns", "prf": "10 Hz",
+     "beam_diameter": "6 mm", "divergence": "0.5 mrad"},
     {"wavelength": "694.3 nm", "pulse_energy": "2 J", "pulse_duration": "1 ms", "beam_diameter": "6 mm",
      "divergence": "2 mrad"},
 ]

@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 from django.test import TestCase
-from django.utils import timezone
 from rest_framework.test import APIClient
 
 from registry import services
@@ -33,16 +32,6 @@ class LaserListTests(TestCase):
         cls.violet = _laser(tag="L-03", owner=cls.rhea, room=birch, by=cls.lso, labelled_class="3R",
                             wavelength="405 nm")
         services.laser_approve(laser=cls.green, by=cls.lso)
-        # Stored figures (the API passes them through; their physics is tested in tests/hazards).
-        cls.result = HazardResult.objects.create(
-            emission=cls.green.emissions.get(), limits="icnirp2013", exposure_s=0.25, eye_mpe_J_m2=6.36,
-            eye_mpe_W_m2=25.4, nohd_m=310.0, od_required=4.2, en207_marking="D LB5", engine_version="0.1.0",
-            working=[{"what": "NOHD", "formula": "(sqrt(4P/(pi E)) - a) / phi", "inputs": {}, "value": 310.0,
-                      "unit": "m", "source": "IEC 60825-1"}],
-            computed_at=timezone.now())
-        HazardResult.objects.create(
-            emission=cls.infrared.emissions.get(), limits="icnirp2013", exposure_s=10, eye_mpe_J_m2=1e4,
-            eye_mpe_W_m2=1e3, nohd_m=None, nohd_unbounded=True, engine_version="0.1.0", computed_at=timezone.now())
 
     def setUp(self) -> None:
         self.client = APIClient()
@@ -55,15 +44,22 @@ class LaserListTests(TestCase):
 
     def test_a_laser_embeds_its_emissions_current_results_and_a_link_to_the_working(self) -> None:
         laser = self.client.get(f"/api/v1/lasers/{self.green.pk}/").json()
-        result = laser["emissions"][0]["hazard_results"][0]
-        self.assertEqual(laser["emissions"][0]["wavelength_text"], "532 nm")
-        self.assertEqual((result["limits"], result["nohd_m"], result["nohd_m_text"], result["od_required"],
-                          result["en207_marking"], result["exposure_s"], result["engine_version"]),
-                         ("icnirp2013", 310.0, "310 m", 4.2, "D LB5", 0.25, "0.1.0"))
-        self.assertIn("never replace", result["caution"])
-        working = self.client.get(result["working_url"])
-        self.assertEqual(working.status_code, 200)
-        self.assertEqual(working.json()["working"][0]["source"], "IEC 60825-1")
+        emission = laser["emissions"][0]
+        self.assertEqual(emission["wavelength_text"], "532 nm")
+        stored = {result.limits: result for result in HazardResult.objects.filter(emission_id=emission["id"])}
+        self.assertEqual({result["limits"] for result in emission["hazard_results"]}, set(stored))
+        for result in emission["hazard_results"]:
+            expected = stored[result["limits"]]
+            self.assertEqual((result["nohd_m"], result["nohd_unbounded"], result["od_required"],
+                              result["en207_marking"], result["exposure_s"], result["eye_mpe_W_m2"],
+                              result["engine_version"]),
+                             (expected.nohd_m, expected.nohd_unbounded, expected.od_required, expected.en207_marking,
+                              expected.exposure_s, expected.eye_mpe_W_m2, expected.engine_version))
+            self.assertIn("never replace", result["caution"])
+            working = self.client.get(result["working_url"])
+            self.assertEqual(working.status_code, 200)
+            self.assertEqual(working.json()["working"], expected.working)
+            self.assertGreater(len(expected.working), 0)
 
     def test_filters_by_class_status_location_building_and_owner(self) -> None:
         self.assertEqual(self._tags(laser_class="4"), ["L-01"])
@@ -78,9 +74,16 @@ class LaserListTests(TestCase):
         self.assertEqual(self._tags(wavelength_min=1e-6), ["L-02"])
         self.assertEqual(self._tags(wavelength_max="450nm"), ["L-03"])
 
-    def test_nohd_greater_than_counts_an_unbounded_nohd(self) -> None:
-        self.assertEqual(self._tags(nohd_gt="300 m"), ["L-01", "L-02"])
-        self.assertEqual(self._tags(nohd_gt="0.5 km"), ["L-02"])
+    def test_nohd_greater_than_matches_the_stored_results(self) -> None:
+        results = list(HazardResult.objects.select_related("emission__laser"))
+        distances = sorted({result.nohd_m for result in results if result.nohd_m is not None})
+        self.assertGreater(len(distances), 1)
+        for threshold in [0.0, *distances]:
+            with self.subTest(threshold=threshold):
+                expected = sorted({result.emission.laser.asset_tag for result in results
+                                   if result.nohd_unbounded or (result.nohd_m or 0.0) > threshold})
+                self.assertEqual(self._tags(nohd_gt=f"{threshold} m"), expected)
+                self.assertEqual(self._tags(nohd_gt=f"{threshold / 1000} km"), expected)
 
     def test_ordering_and_search(self) -> None:
         self.assertEqual(self._tags(ordering="-asset_tag"), ["L-03", "L-02", "L-01"])
