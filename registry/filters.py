@@ -44,7 +44,9 @@ class QuantityFormField(forms.Field):
         try:
             return parse_quantity(value, field="value", unit=self.unit, minimum=self.minimum)
         except InputError as error:
-            raise forms.ValidationError(error.message, code="invalid_quantity") from None
+            # Passed as a parameter: the message quotes the input, which may contain "%".
+            raise forms.ValidationError("%(message)s", code="invalid_quantity",
+                                        params={"message": error.message}) from None
 
 
 @extend_schema_field(OpenApiTypes.STR)

@@ -158,3 +158,6 @@ class OtherQuantityTests(TestCase):
         self.assertEqual(response.status_code, 400)
         self.assertIn("is not a length", response.json()["nohd_gt"][0])
         self.assertEqual(self.client.get("/api/v1/lasers/", {"wavelength_min": "400 nm"}).status_code, 200)
+        percent = self.client.get("/api/v1/emissions/", {"wavelength_max": "5 %J"})
+        self.assertEqual(percent.status_code, 400)
+        self.assertIn("'5 %J'", percent.json()["wavelength_max"][0])
