@@ -34,6 +34,8 @@ _CONFLICT = OpenApiResponse(description="The record's status does not allow this
 
 
 class AuditViewSet(CreateRecordMixin, RegisterViewSet):
+    """Audits with their checklist and findings: plan, start, answer, raise findings, sign off."""
+
     policy = permissions.AUDITS
     serializer_class = AuditSerializer
     input_serializer_classes = {
@@ -97,6 +99,8 @@ class AuditViewSet(CreateRecordMixin, RegisterViewSet):
 
 
 class FindingViewSet(RegisterViewSet):
+    """Audit findings; the action owner closes one with the evidence."""
+
     policy = permissions.FINDINGS
     serializer_class = FindingSerializer
     input_serializer_classes = {"close": FindingCloseSerializer}
@@ -119,6 +123,8 @@ class FindingViewSet(RegisterViewSet):
 
 
 class IncidentViewSet(CreateRecordMixin, RegisterViewSet):
+    """Exposures and near misses, their investigation and follow-up."""
+
     policy = permissions.INCIDENTS
     serializer_class = IncidentSerializer
     input_serializer_classes = {"close": IncidentCloseSerializer}

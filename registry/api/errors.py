@@ -17,7 +17,7 @@ from django.db import IntegrityError
 from rest_framework import status
 from rest_framework.exceptions import APIException, ValidationError
 from rest_framework.response import Response
-from rest_framework.serializers import Serializer
+from rest_framework.serializers import BaseSerializer, Serializer
 from rest_framework.views import exception_handler
 
 from registry.services.errors import PrerequisiteError, TransitionError
@@ -50,7 +50,7 @@ class Conflict(APIException):
 
 
 @contextmanager
-def service_errors(serializer: Serializer[Any] | None = None) -> Iterator[None]:
+def service_errors(serializer: BaseSerializer[Any] | None = None) -> Iterator[None]:
     """Turn a service's refusal into the API's answer, keyed by the API's field names.
 
     Services name model fields ("wavelength_m"); the client sent API fields
@@ -60,7 +60,7 @@ def service_errors(serializer: Serializer[Any] | None = None) -> Iterator[None]:
         yield
     except DjangoValidationError as error:
         body = _messages(error)
-        if serializer is not None and isinstance(body, dict):
+        if isinstance(serializer, Serializer) and isinstance(body, dict):
             names = {field.source: name for name, field in serializer.fields.items()
                      if not field.read_only and field.source != "*"}
             body = {names.get(key, key): messages for key, messages in body.items()}

@@ -36,6 +36,8 @@ _CONFLICT = OpenApiResponse(description="The laser's status does not allow this 
     create=extend_schema(summary="Register a laser (it starts as pending review)"),
 )
 class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
+    """Lasers with their emissions and current hazard results; registration and review as actions."""
+
     policy = permissions.LASERS
     serializer_class = LaserSerializer
     input_serializer_classes = {
@@ -56,7 +58,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
 
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Laser:
         fields = dict(serializer.validated_data)
-        if self.person is not None and not self.person.is_lso:
+        if not self.person.is_lso:
             # A researcher registers in their own name.
             fields["owner"] = self.person
         with service_errors(serializer):
@@ -110,6 +112,8 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
 
 
 class EmissionViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
+    """Emissions (lines or modes of a laser); physical fields take SI numbers or strings with units."""
+
     policy = permissions.EMISSIONS
     serializer_class = EmissionSerializer
     input_serializer_classes = {"update": EmissionUpdateSerializer, "partial_update": EmissionUpdateSerializer}
@@ -134,6 +138,8 @@ class EmissionViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
 
 
 class HazardResultViewSet(RegisterViewSet):
+    """Stored hazard results, one per emission and limit set, recomputed when an emission changes."""
+
     policy = permissions.HAZARD_RESULTS
     serializer_class = HazardResultSerializer
     filterset_class = HazardResultFilter

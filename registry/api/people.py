@@ -34,6 +34,8 @@ _CONFLICT = OpenApiResponse(description="The record's status, or a missing prere
 
 
 class PersonViewSet(RegisterViewSet):
+    """People and their roles; researchers see their own group, users themselves."""
+
     policy = permissions.PEOPLE
     serializer_class = PersonSerializer
     filterset_class = PersonFilter
@@ -46,6 +48,8 @@ class PersonViewSet(RegisterViewSet):
 
 
 class TrainingRecordViewSet(CreateRecordMixin, RegisterViewSet):
+    """Completed laser safety training; the LSO records it."""
+
     policy = permissions.TRAINING_RECORDS
     serializer_class = TrainingRecordSerializer
     filterset_class = TrainingRecordFilter
@@ -62,6 +66,8 @@ class TrainingRecordViewSet(CreateRecordMixin, RegisterViewSet):
 
 
 class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
+    """Who may operate which laser: requests, their prerequisites and the LSO's decisions."""
+
     policy = permissions.AUTHORIZATIONS
     serializer_class = AuthorizationSerializer
     input_serializer_classes = {"approve": AuthorizationApprovalSerializer, "refuse": AuthorizationRefusalSerializer}
@@ -110,6 +116,8 @@ class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
 
 
 class SOPViewSet(CreateRecordMixin, RegisterViewSet):
+    """Standard operating procedures per laser: drafts, approval and acknowledgement."""
+
     policy = permissions.SOPS
     serializer_class = SOPSerializer
     input_serializer_classes = {"approve": SOPApprovalSerializer}

@@ -24,6 +24,8 @@ from registry.services import eyewear as eyewear_services
 
 
 class LocationViewSet(CreateRecordMixin, RegisterViewSet):
+    """Rooms where lasers and eyewear are kept."""
+
     policy = permissions.LOCATIONS
     serializer_class = LocationSerializer
     filterset_class = LocationFilter
@@ -40,6 +42,8 @@ class LocationViewSet(CreateRecordMixin, RegisterViewSet):
 
 
 class EyewearViewSet(CreateRecordMixin, RegisterViewSet):
+    """Protective eyewear with its marked protection per wavelength band."""
+
     policy = permissions.EYEWEAR
     serializer_class = EyewearSerializer
     input_serializer_classes = {"inspect": EyewearInspectionSerializer, "set_markings": EyewearMarkingsSerializer}
