@@ -36,6 +36,7 @@ _DESCRIPTIONS = {
     "404": "No such record, or not visible to the caller (for a list: no such page).",
     "409": "The record's current state does not allow this step.",
     "412": "If-Match does not match the record's current ETag: it changed since it was read. Nothing was saved.",
+    "415": "The body's Content-Type is not one this operation accepts, or the body cannot be read as one.",
     "428": "The update did not send If-Match with the ETag of the representation it modifies.",
     "429": "Too many attempts; retry after the number of seconds in Retry-After.",
 }
@@ -103,6 +104,8 @@ def _error_statuses(path: str, method: str, operation: dict[str, Any]) -> list[s
     if "{" in path or pages:
         # A page number past the end is a 404 too.
         statuses.append("404")
+    if method in {"post", "put", "patch"}:
+        statuses.append("415")
     if method in {"put", "patch"}:
         statuses += ["412", "428"]
     return statuses
