@@ -126,6 +126,10 @@ def owns_emission_laser(person: Person, result: Any) -> bool:
     return result.emission.laser.owner_id == person.pk
 
 
+def requested_it(person: Person, authorization: Any) -> bool:
+    return authorization.requested_by_id == person.pk
+
+
 def is_action_owner(person: Person, finding: Any) -> bool:
     return finding.owner_id == person.pk
 
@@ -225,7 +229,7 @@ PEOPLE = Policy(
 )
 
 TRAINING_RECORDS = Policy(
-    {**_read(*_EVERYONE), "create": allow(LSO)},
+    {**_read(*_EVERYONE), "create": allow(LSO), "retire": allow(LSO)},
     scope={RESEARCHER: _records_of_group, USER: _records_of_self},
 )
 
@@ -237,6 +241,9 @@ AUTHORIZATIONS = Policy(
         "prerequisites": allow(*_EVERYONE),
         "approve": allow(LSO),
         "refuse": allow(LSO),
+        "revoke": allow(LSO),
+        "withdraw": allow(LSO, RESEARCHER, on_object=requested_it),
+        "retire": allow(LSO),
     },
     scope={RESEARCHER: _authorizations_for_researcher, USER: _records_of_self},
 )
@@ -248,11 +255,13 @@ SOPS = Policy(
         "approve": allow(LSO),
         # Reading the SOP is a prerequisite of one's own authorization.
         "acknowledge": allow(LSO, RESEARCHER, USER),
+        "retire": allow(LSO),
     },
     scope={USER: _sops_of_own_lasers},
 )
 
-EYEWEAR = Policy({**_read(*_READERS), "create": allow(LSO), "inspect": allow(LSO), "set_markings": allow(LSO)})
+EYEWEAR = Policy({**_read(*_READERS), "create": allow(LSO), "inspect": allow(LSO), "set_markings": allow(LSO),
+                  "retire": allow(LSO)})
 
 AUDITS = Policy({
     **_read(LSO, INSPECTOR),
@@ -261,6 +270,7 @@ AUDITS = Policy({
     "answer": allow(LSO),
     "raise_finding": allow(LSO),
     "sign_off": allow(LSO),
+    "retire": allow(LSO),
 })
 
 FINDINGS = Policy(
@@ -268,11 +278,13 @@ FINDINGS = Policy(
         **_read(*_READERS),
         # The person who owns the corrective action closes it, giving the evidence.
         "close": allow(LSO, RESEARCHER, on_object=is_action_owner),
+        "retire": allow(LSO),
     },
     scope={RESEARCHER: _findings_for_researcher},
 )
 
 INCIDENTS = Policy(
-    {**_read(*_READERS), "create": allow(LSO, RESEARCHER), "investigate": allow(LSO), "close": allow(LSO)},
+    {**_read(*_READERS), "create": allow(LSO, RESEARCHER), "investigate": allow(LSO), "close": allow(LSO),
+     "retire": allow(LSO)},
     scope={RESEARCHER: _incidents_for_researcher},
 )

@@ -11,7 +11,7 @@ from rest_framework.request import Request
 from rest_framework.response import Response
 
 from registry import permissions, selectors
-from registry.api.base import CreateRecordMixin, RegisterViewSet
+from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
 from registry.filters import FindingFilter, IncidentFilter
 from registry.models import Audit, Incident
@@ -33,7 +33,8 @@ from registry.services import incidents as incident_services
 _CONFLICT = OpenApiResponse(description="The record's status does not allow this step (the body says why).")
 
 
-class AuditViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(AuditSerializer)
+class AuditViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Audits with their checklist and findings: plan, start, answer, raise findings, sign off."""
 
     policy = permissions.AUDITS
@@ -98,7 +99,8 @@ class AuditViewSet(CreateRecordMixin, RegisterViewSet):
         return self.respond_with(audit)
 
 
-class FindingViewSet(RegisterViewSet):
+@retirable(FindingSerializer)
+class FindingViewSet(RetireRecordMixin, RegisterViewSet):
     """Audit findings; the action owner closes one with the evidence."""
 
     policy = permissions.FINDINGS
@@ -122,7 +124,8 @@ class FindingViewSet(RegisterViewSet):
         return self.respond_with(finding)
 
 
-class IncidentViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(IncidentSerializer)
+class IncidentViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Exposures and near misses, their investigation and follow-up."""
 
     policy = permissions.INCIDENTS

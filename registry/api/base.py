@@ -10,8 +10,8 @@ from __future__ import annotations
 from typing import Any, ClassVar
 
 from django.db.models import Model, QuerySet
-from drf_spectacular.utils import extend_schema
-from rest_framework import mixins, status
+from drf_spectacular.utils import extend_schema, extend_schema_view
+from rest_framework import mixins, serializers, status
 from rest_framework.decorators import action
 from rest_framework.exceptions import NotAuthenticated
 from rest_framework.request import Request
@@ -19,6 +19,8 @@ from rest_framework.response import Response
 from rest_framework.serializers import BaseSerializer
 from rest_framework.viewsets import GenericViewSet
 
+from registry import services
+from registry.api.errors import service_errors
 from registry.api.etags import ETagMixin, etag_for
 from registry.models import Person
 from registry.permissions import Policy, RolePolicy, person_of
@@ -42,6 +44,8 @@ class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixi
         return self.policy.visible(person_of(self.request.user), self.base_queryset())
 
     def get_serializer_class(self) -> type[BaseSerializer[Any]]:
+        if self.action == "retire":
+            return RetirementSerializer
         return self.input_serializer_classes.get(self.action, self.serializer_class)
 
     @property
@@ -88,3 +92,25 @@ class CreateRecordMixin:
         serializer.is_valid(raise_exception=True)
         instance = self.perform_create(serializer)  # type: ignore[attr-defined]
         return self.respond_with(instance, status.HTTP_201_CREATED)  # type: ignore[attr-defined,no-any-return]
+
+
+class RetirementSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    reason = serializers.CharField(help_text="Why the record is retired; it stays in the register with its history.")
+
+
+def retirable(output: type[BaseSerializer[Any]]) -> Any:
+    """Class decorator documenting a viewset's retire action (RetireRecordMixin)."""
+    return extend_schema_view(retire=extend_schema(
+        request=RetirementSerializer, responses={200: output},
+        summary="Retire the record (LSO): it stays in the register, marked with when and why"))
+
+
+class RetireRecordMixin:
+    """POST {id}/retire/ for compliance records, which are retired, never deleted."""
+
+    @action(detail=True, methods=["post"])
+    def retire(self, request: Request, pk: str | None = None) -> Response:
+        record, values = self.step_input()  # type: ignore[attr-defined]
+        with service_errors():
+            record = services.record_retire(record=record, by=self.person, reason=values["reason"])  # type: ignore[attr-defined]
+        return self.respond_with(record)  # type: ignore[attr-defined,no-any-return]

@@ -11,7 +11,7 @@ from rest_framework.request import Request
 from rest_framework.response import Response
 
 from registry import permissions, selectors
-from registry.api.base import CreateRecordMixin, RegisterViewSet
+from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
 from registry.filters import AuthorizationFilter, PersonFilter, TrainingRecordFilter
 from registry.models import SOP, Authorization, TrainingRecord
@@ -47,7 +47,8 @@ class PersonViewSet(RegisterViewSet):
         return selectors.person_list()
 
 
-class TrainingRecordViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(TrainingRecordSerializer)
+class TrainingRecordViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Completed laser safety training; the LSO records it."""
 
     policy = permissions.TRAINING_RECORDS
@@ -65,12 +66,14 @@ class TrainingRecordViewSet(CreateRecordMixin, RegisterViewSet):
             return training_services.training_record(by=self.person, **serializer.validated_data)
 
 
-class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(AuthorizationSerializer)
+class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Who may operate which laser: requests, their prerequisites and the LSO's decisions."""
 
     policy = permissions.AUTHORIZATIONS
     serializer_class = AuthorizationSerializer
-    input_serializer_classes = {"approve": AuthorizationApprovalSerializer, "refuse": AuthorizationRefusalSerializer}
+    input_serializer_classes = {"approve": AuthorizationApprovalSerializer, "refuse": AuthorizationRefusalSerializer,
+                                "revoke": AuthorizationRefusalSerializer}
     filterset_class = AuthorizationFilter
     ordering_fields = ["requested_at", "decided_at", "valid_until"]
     ordering = ["laser", "person", "-requested_at"]
@@ -104,6 +107,26 @@ class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
                 authorization=authorization, by=self.person, **values)
         return self.respond_with(authorization)
 
+    @extend_schema(request=None, responses={200: AuthorizationSerializer, 409: _CONFLICT},
+                   summary="Withdraw a request (the requester or the LSO)")
+    @action(detail=True, methods=["post"])
+    def withdraw(self, request: Request, pk: str | None = None) -> Response:
+        authorization = self.get_object()
+        self.check_optional_if_match(authorization)
+        with service_errors():
+            authorization = authorization_services.authorization_withdraw(authorization=authorization, by=self.person)
+        return self.respond_with(authorization)
+
+    @extend_schema(request=AuthorizationRefusalSerializer, responses={200: AuthorizationSerializer, 409: _CONFLICT},
+                   summary="Revoke an approved authorization, with the reason (LSO)")
+    @action(detail=True, methods=["post"])
+    def revoke(self, request: Request, pk: str | None = None) -> Response:
+        authorization, values = self.step_input()
+        with service_errors():
+            authorization = authorization_services.authorization_revoke(
+                authorization=authorization, by=self.person, reason=values["reason"])
+        return self.respond_with(authorization)
+
     @extend_schema(request=AuthorizationRefusalSerializer, responses={200: AuthorizationSerializer, 409: _CONFLICT},
                    summary="Refuse with the reason (LSO)")
     @action(detail=True, methods=["post"])
@@ -115,7 +138,8 @@ class AuthorizationViewSet(CreateRecordMixin, RegisterViewSet):
         return self.respond_with(authorization)
 
 
-class SOPViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(SOPSerializer)
+class SOPViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Standard operating procedures per laser: drafts, approval and acknowledgement."""
 
     policy = permissions.SOPS

@@ -10,7 +10,7 @@ from rest_framework.request import Request
 from rest_framework.response import Response
 
 from registry import permissions, selectors
-from registry.api.base import CreateRecordMixin, RegisterViewSet
+from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
 from registry.filters import EyewearFilter, LocationFilter
 from registry.models import Eyewear, Location
@@ -41,7 +41,8 @@ class LocationViewSet(CreateRecordMixin, RegisterViewSet):
             return eyewear_services.location_create(by=self.person, **serializer.validated_data)
 
 
-class EyewearViewSet(CreateRecordMixin, RegisterViewSet):
+@retirable(EyewearSerializer)
+class EyewearViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     """Protective eyewear with its marked protection per wavelength band."""
 
     policy = permissions.EYEWEAR

@@ -112,6 +112,8 @@ ROWS: dict[str, Row] = {
                            _s(401, 200, 200, 200, 404, 200)),
     "training history": Row("get", f"{V}/training-records/{{id}}/history/", lambda w: w.training.pk, None,
                             LSO_INSPECTOR),
+    "training retire": Row("post", f"{V}/training-records/{{id}}/retire/", lambda w: w.training.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "training record": Row("post", f"{V}/training-records/", None, lambda w: {
         "person": w.owner.pk, "course": "refresher", "completed_on": "2026-11-02", "valid_until": "2028-11-02",
         "evidence": "Attendance list R-17"}, LSO_CREATE),
@@ -131,12 +133,21 @@ ROWS: dict[str, Row] = {
                                  lambda w: {"valid_until": "2027-12-31"}, LSO_WRITE),
     "authorization refuse": Row("post", f"{V}/authorizations/{{id}}/refuse/", lambda w: w.authorization.pk,
                                 lambda w: {"reason": "Supervision not arranged."}, LSO_WRITE),
+    "authorization withdraw": Row("post", f"{V}/authorizations/{{id}}/withdraw/", lambda w: w.authorization.pk,
+                                  None, _s(401, 200, 403, 200, 404, 403)),
+    # The request is not approved yet, so the LSO passes the permission check and meets the workflow's 409.
+    "authorization revoke": Row("post", f"{V}/authorizations/{{id}}/revoke/", lambda w: w.authorization.pk,
+                                lambda w: {"reason": "Left the group."}, _s(401, 409, 403, 403, 403, 403)),
+    "authorization retire": Row("post", f"{V}/authorizations/{{id}}/retire/", lambda w: w.authorization.pk,
+                                lambda w: {"reason": "Entered in error."}, LSO_WRITE),
     # SOPs
     "sops list": Row("get", f"{V}/sops/", None, None, EVERYONE),
     "sop detail": Row("get", f"{V}/sops/{{id}}/", lambda w: w.sop.pk, None, EVERYONE),
     "sop history": Row("get", f"{V}/sops/{{id}}/history/", lambda w: w.sop.pk, None, LSO_INSPECTOR),
     "sop upload": Row("post", f"{V}/sops/", None, lambda w: {"laser": w.laser.pk, "title": "Alignment"},
                       _s(401, 201, 403, 201, 400, 403)),
+    "sop retire": Row("post", f"{V}/sops/{{id}}/retire/", lambda w: w.draft_sop.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "sop approve": Row("post", f"{V}/sops/{{id}}/approve/", lambda w: w.draft_sop.pk, lambda w: {}, LSO_WRITE),
     "sop acknowledge": Row("post", f"{V}/sops/{{id}}/acknowledge/", lambda w: w.sop.pk, None,
                            _s(401, 201, 403, 201, 201, 201)),
@@ -148,6 +159,8 @@ ROWS: dict[str, Row] = {
         "inventory_tag": "TST-EW-2", "location": w.room.pk, "markings": [
             {"wavelength_min": "1000 nm", "wavelength_max": "1100 nm", "en207_conditions": "D",
              "en207_scale": 5}]}, LSO_CREATE),
+    "eyewear retire": Row("post", f"{V}/eyewear/{{id}}/retire/", lambda w: w.eyewear.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "eyewear inspect": Row("post", f"{V}/eyewear/{{id}}/inspect/", lambda w: w.eyewear.pk,
                            lambda w: {"condition": "worn"}, LSO_WRITE),
     "eyewear markings": Row("post", f"{V}/eyewear/{{id}}/markings/", lambda w: w.eyewear.pk, lambda w: {
@@ -159,6 +172,8 @@ ROWS: dict[str, Row] = {
     "audit plan": Row("post", f"{V}/audits/", None, lambda w: {
         "reference": "TST-AUD-9", "scope": "location", "location": w.room.pk, "auditor": w.lso.pk,
         "planned_on": "2027-01-15", "questions": ["Is the door sign posted?"]}, LSO_CREATE),
+    "audit retire": Row("post", f"{V}/audits/{{id}}/retire/", lambda w: w.planned_audit.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "audit start": Row("post", f"{V}/audits/{{id}}/start/", lambda w: w.planned_audit.pk, lambda w: {}, LSO_WRITE),
     "audit answer": Row("post", f"{V}/audits/{{id}}/answer/", lambda w: w.running_audit.pk,
                         lambda w: {"position": 1, "answer": "no", "comment": "One dump missing."}, LSO_WRITE),
@@ -170,6 +185,8 @@ ROWS: dict[str, Row] = {
     "finding detail": Row("get", f"{V}/findings/{{id}}/", lambda w: w.finding.pk, None, OWNER_DETAIL),
     "finding history": Row("get", f"{V}/findings/{{id}}/history/", lambda w: w.finding.pk, None, LSO_INSPECTOR),
     # The finding's action owner closes it; the outsider cannot even see it.
+    "finding retire": Row("post", f"{V}/findings/{{id}}/retire/", lambda w: w.finding.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "finding close": Row("post", f"{V}/findings/{{id}}/close/", lambda w: w.finding.pk,
                          lambda w: {"evidence": "Dump fitted, photo in the lab log p. 14."},
                          _s(401, 200, 403, 200, 404, 403)),
@@ -180,6 +197,8 @@ ROWS: dict[str, Row] = {
     "incident report": Row("post", f"{V}/incidents/", None, lambda w: {
         "reference": "TST-INC-9", "kind": "near_miss", "occurred_at": "2026-11-30T10:00:00Z",
         "description": "Beam block slipped.", "laser": w.laser.pk}, _s(401, 201, 403, 201, 201, 403)),
+    "incident retire": Row("post", f"{V}/incidents/{{id}}/retire/", lambda w: w.incident.pk,
+                  lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "incident investigate": Row("post", f"{V}/incidents/{{id}}/investigate/", lambda w: w.incident.pk, None,
                                 LSO_WRITE),
     "incident close": Row("post", f"{V}/incidents/{{id}}/close/", lambda w: w.investigated_incident.pk,

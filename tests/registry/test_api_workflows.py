@@ -131,6 +131,15 @@ class WorkflowTests(TestCase):
         self.assertEqual((authorization.status, authorization.decided_by), ("approved", self.lso))
         self.assertEqual(_client(self.user).get("/api/v1/authorizations/").json()["count"], 1)
 
+        revoked = self.lso_client.post(f"{url}revoke/", {"reason": "Moved to another group."}, format="json")
+        self.assertEqual(revoked.status_code, 200)
+        authorization.refresh_from_db()
+        self.assertEqual((authorization.status, authorization.decision_reason), ("revoked", "Moved to another group."))
+        retired = self.lso_client.post(f"{url}retire/", {"reason": "Closed after revocation."}, format="json")
+        self.assertEqual(retired.status_code, 200)
+        self.assertIsNotNone(retired.json()["retired_at"])
+        self.assertTrue(Authorization.objects.filter(pk=authorization.pk).exists())
+
     def test_a_refusal_needs_its_reason(self) -> None:
         laser = self._register_and_approve()
         authorization = services.authorization_request(person=self.user, laser=laser, by=self.researcher)
