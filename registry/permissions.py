@@ -83,12 +83,12 @@ class RolePolicy(BasePermission):
             if request.user and request.user.is_authenticated:
                 self.message = "This account has no role in the register; ask the laser safety officer."
             return False
-        rule = _rule_for(view)
+        rule = _rule_for(view, request.method or "")
         return rule is not None and person.role in rule.roles
 
     def has_object_permission(self, request: Request, view: APIView, obj: Model) -> bool:
         person = person_of(request.user)
-        rule = _rule_for(view)
+        rule = _rule_for(view, request.method or "")
         if person is None or rule is None:
             return False
         if rule.on_object is None or person.role not in rule.checked_roles:
@@ -105,11 +105,17 @@ class HasRole(BasePermission):
         return person_of(request.user) is not None
 
 
-def _rule_for(view: APIView) -> Rule | None:
+_METADATA_METHODS = {"POST": "create", "PUT": "update", "PATCH": "partial_update"}
+
+
+def _rule_for(view: APIView, method: str) -> Rule | None:
     policy: Policy = getattr(view, "policy")
-    action = getattr(view, "action", None)
-    # OPTIONS (DRF's "metadata") describes the list, so it needs what listing needs.
-    return policy.rules.get("list" if action == "metadata" else action or "")
+    action = getattr(view, "action", None) or ""
+    if action == "metadata":
+        # OPTIONS needs what listing needs; DRF then asks again, per method, whether to
+        # describe that method's form, with the request's method set to it.
+        action = _METADATA_METHODS.get(method, "list")
+    return policy.rules.get(action)
 
 
 # --- object checks -------------------------------------------------------------------------

@@ -249,3 +249,25 @@ class PermissionMatrixTests(TestCase):
                       if method in {"get", "post", "put", "patch", "delete"}}
         covered = {(row.method, row.template) for row in ROWS.values()}
         self.assertEqual(operations - covered, set())
+
+
+class OptionsTests(TestCase):
+    """OPTIONS describes only the writes the caller's role may make."""
+
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+
+    def test_the_create_form_is_described_only_to_roles_that_may_create(self) -> None:
+        for persona, described in (("lso", True), ("owner", True), ("user", False), ("inspector", False)):
+            with self.subTest(persona=persona):
+                response = self.world.client(persona).options("/api/v1/sops/")
+                self.assertEqual(response.status_code, 200)
+                self.assertIs("POST" in response.json().get("actions", {}), described)
+
+    def test_the_edit_form_of_a_laser_is_described_to_its_owner_not_to_an_outsider(self) -> None:
+        url = f"/api/v1/lasers/{self.world.laser.pk}/"
+        self.assertIn("PUT", self.world.client("owner").options(url).json()["actions"])
+        self.assertNotIn("actions", self.world.client("outsider").options(url).json())
