@@ -100,13 +100,16 @@ class Laser(RetainedModel):
                 condition=models.Q(status__in=[choice.value for choice in LaserStatus]),
                 name="registry_laser_status_valid",
             ),
-            # A class 3B or 4 beam in the register's care always has someone answerable and a room.
+            # A class 3B or 4 beam in the register's care always has someone answerable and a
+            # room, also inside an enclosure (servicing opens it).
             models.CheckConstraint(
-                condition=~models.Q(labelled_class__in=HAZARDOUS_CLASSES)
+                condition=(~models.Q(labelled_class__in=HAZARDOUS_CLASSES)
+                           & ~models.Q(embedded_class__in=HAZARDOUS_CLASSES))
                 | models.Q(status__in=RETIRED_STATUSES)
                 | (models.Q(owner__isnull=False) & models.Q(location__isnull=False)),
                 name="registry_laser_hazardous_has_owner_and_location",
-                violation_error_message=_("A class 3B or 4 laser needs an owner and a location until it is disposed of or transferred."),
+                violation_error_message=_("A class 3B or 4 laser (or one embedding such a laser) needs an owner "
+                                          "and a location until it is disposed of or transferred."),
             ),
             models.CheckConstraint(
                 condition=models.Q(retired_on__isnull=True) | models.Q(status__in=RETIRED_STATUSES),

@@ -8,7 +8,7 @@ import pytest
 from pytest_django.fixtures import Settings
 from django.contrib.auth import get_user_model
 from django.core.management import call_command
-from django.db.models import Count
+from django.db.models import Count, Q
 from django.test import TestCase
 from django.utils import timezone
 
@@ -65,7 +65,9 @@ class CampusContentTests(TestCase):
         self.assertLess(pointer.emissions.get().average_power_W, 5e-3)
 
     def test_every_class_3b_or_4_laser_in_service_has_a_room_an_owner_and_an_emission(self) -> None:
-        hazardous = Laser.objects.filter(labelled_class__in=HAZARDOUS_CLASSES).annotate(lines=Count("emissions"))
+        hazardous = Laser.objects.filter(
+            Q(labelled_class__in=HAZARDOUS_CLASSES) | Q(embedded_class__in=HAZARDOUS_CLASSES)
+        ).annotate(lines=Count("emissions"))
         self.assertGreater(hazardous.count(), 15)
         for laser in hazardous:
             with self.subTest(laser=laser.asset_tag):

@@ -47,6 +47,8 @@ REFUSED_ROWS: list[tuple[type[factories.factory.django.DjangoModelFactory], dict
     (factories.LaserFactory, {"labelled_class": "4", "owner": None}, "registry_laser_hazardous_has_owner_and_location"),
     (factories.LaserFactory, {"labelled_class": "3B", "location": None},
      "registry_laser_hazardous_has_owner_and_location"),
+    (factories.LaserFactory, {"labelled_class": "1", "embedded_class": "4", "owner": None},
+     "registry_laser_hazardous_has_owner_and_location"),
     (factories.LaserFactory, {"labelled_class": "5"}, "registry_laser_class_valid"),
     (factories.LaserFactory, {"status": "lost"}, "registry_laser_status_valid"),
     (factories.LaserFactory, {"retired_on": "2024-01-01"}, "registry_laser_retired_on_only_when_retired"),

@@ -45,7 +45,8 @@ def test_registration_refuses_a_hazardous_laser_without_a_room(researcher: facto
     with pytest.raises(ValidationError) as raised:
         laser_register(by=researcher, asset_tag="NEW-2", laser_type="diode", labelled_class="4", owner=researcher)
     assert raised.value.messages == [
-        "A class 3B or 4 laser needs an owner and a location until it is disposed of or transferred."]
+        "A class 3B or 4 laser (or one embedding such a laser) needs an owner and a location until it is disposed "
+        "of or transferred."]
     assert not Laser.objects.filter(asset_tag="NEW-2").exists()
 
 
