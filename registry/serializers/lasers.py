@@ -4,7 +4,6 @@ from __future__ import annotations
 from typing import Any
 
 from rest_framework import serializers
-from rest_framework.reverse import reverse
 
 from hazards.units import format_si
 from registry.models import (
@@ -19,7 +18,7 @@ from registry.models import (
     Person,
 )
 from registry.permissions import editable_lasers, person_of
-from registry.serializers.base import ScopedRelatedField
+from registry.serializers.base import ScopedRelatedField, record_url
 from registry.serializers.fields import QuantityField, QuantitySerializerMixin
 
 # How far pulse energy x repetition rate may stray from the stated average power before the
@@ -67,7 +66,7 @@ class HazardResultSerializer(QuantitySerializerMixin, serializers.ModelSerialize
         read_only_fields = fields
 
     def get_working_url(self, result: HazardResult) -> str:
-        return reverse("api:hazard-result-working", args=[result.pk], request=self.context.get("request"))
+        return record_url(self, "api:hazard-result-working", result.pk)
 
     def get_caution(self, result: HazardResult) -> str:
         return HAZARD_CAUTION
@@ -192,7 +191,7 @@ class LaserSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
         return None if laser.location is None else str(laser.location)
 
     def get_history_url(self, laser: Laser) -> str:
-        return reverse("api:laser-history", args=[laser.pk], request=self.context.get("request"))
+        return record_url(self, "api:laser-history", laser.pk)
 
     def validate_owner(self, owner: Person | None) -> Person | None:
         # A researcher registers and keeps lasers in their own name; the LSO assigns anyone.
