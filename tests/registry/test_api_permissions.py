@@ -271,3 +271,23 @@ class OptionsTests(TestCase):
         url = f"/api/v1/lasers/{self.world.laser.pk}/"
         self.assertIn("PUT", self.world.client("owner").options(url).json()["actions"])
         self.assertNotIn("actions", self.world.client("outsider").options(url).json())
+
+
+class NoDeletionTests(TestCase):
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+
+    def test_nothing_can_be_deleted_over_http(self) -> None:
+        # Lasers and compliance records are retired, never deleted (issue 2): no DELETE route.
+        details = {row.template for row in ROWS.values() if row.template.endswith("{id}/")}
+        self.assertGreater(len(details), 10)
+        for template in sorted(details):
+            row = next(row for row in ROWS.values() if row.template == template)
+            with self.subTest(template=template):
+                before = register_state()
+                response = self.world.client("lso").delete(row.path(self.world))
+                self.assertEqual(response.status_code, 405)
+                self.assertEqual(register_state(), before)
