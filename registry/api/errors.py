@@ -25,14 +25,20 @@ from registry.services.errors import PrerequisiteError, TransitionError
 
 def api_exception_handler(error: Exception, context: dict[str, Any]) -> Response | None:
     if isinstance(error, DjangoValidationError):
-        body = ValidationError(_messages(error)).detail
+        messages = _messages(error)
+        body = ValidationError(messages if isinstance(messages, dict) else {"non_field_errors": messages}).detail
         refused_by_state = isinstance(error, (TransitionError, PrerequisiteError))
         return Response(body, status=status.HTTP_409_CONFLICT if refused_by_state else status.HTTP_400_BAD_REQUEST)
     if isinstance(error, IntegrityError):
         # full_clean() runs every constraint first; this is the rare race between two writers.
         return Response({"detail": "The change conflicts with another record saved at the same time; try again."},
                         status=status.HTTP_409_CONFLICT)
-    return exception_handler(error, context)
+    response = exception_handler(error, context)
+    if response is not None and isinstance(response.data, list):
+        # Errors that belong to no field (DRF raises some, e.g. a null character in ?search=)
+        # still answer an object, as the schema documents.
+        response.data = {"non_field_errors": response.data}
+    return response
 
 
 def _messages(error: DjangoValidationError) -> dict[str, list[str]] | list[str]:
