@@ -32,6 +32,7 @@ test: install-test
 
 bench: install-test
 	$(BIN)/python bench/limits.py
+	$(BIN)/python bench/api.py
 
 clean:
 	rm -rf $(VENV) db.sqlite3

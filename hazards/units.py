@@ -66,10 +66,12 @@ def _from_text(text: str, *, field: str, unit: str) -> float:
     number, unit_text = float(match.group(1)), match.group(2)
     if not unit_text:
         return number
+    # pint parses unit text with Python's tokenizer and evaluator, which fail on arbitrary
+    # text in open-ended ways (TokenError on "m)", ZeroDivisionError on "m/0", ...); any
+    # failure here means the text is not a unit.
     try:
         given = _unit(unit_text)
-    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError, AttributeError,
-            TypeError, AssertionError):
+    except Exception:  # noqa: BLE001
         raise InputError(field, f"unknown unit {unit_text!r} in {text!r}") from None
     try:
         return float(ureg.Quantity(number, given).to(unit).magnitude)

@@ -138,3 +138,58 @@ if PRODUCTION:
     if env_bool("SECURE_PROXY_SSL_HEADER", default=False):
         # Only behind a proxy that sets this header itself and strips it from clients.
         SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
+
+# --- REST API (registry.api) -------------------------------------------------------------
+REST_FRAMEWORK = {
+    # Token first: an anonymous API call then answers 401 with WWW-Authenticate, not 403.
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "rest_framework.authentication.TokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    # Register viewsets apply their role policy (registry.permissions); this is the floor.
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_FILTER_BACKENDS": [
+        "django_filters.rest_framework.DjangoFilterBackend",
+        "rest_framework.filters.OrderingFilter",
+        "rest_framework.filters.SearchFilter",
+    ],
+    "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "EXCEPTION_HANDLER": "registry.api.errors.api_exception_handler",
+    "DEFAULT_THROTTLE_RATES": {
+        "token-sign-in": env_str("API_SIGN_IN_RATE", "10/min"),
+        "token-sign-in-username": env_str("API_SIGN_IN_USERNAME_RATE", "5/min"),
+    },
+    "TEST_REQUEST_DEFAULT_FORMAT": "json",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "Beamkeeper API",
+    "DESCRIPTION": (
+        "The laser register over HTTP. Physical fields take a number in the SI unit named in "
+        "their description (and in x-unit) or a string with units such as '5 mW' or '532 nm'; "
+        "responses give the SI number and a '<field>_text' string. Hazard figures support, and "
+        "never replace, the judgement of the laser safety officer and the local regulations."
+    ),
+    "VERSION": "1",
+    # Requests accept strings with units where responses give numbers, so the two differ.
+    "COMPONENT_SPLIT_REQUEST": True,
+    "SERVE_INCLUDE_SCHEMA": False,
+    "SWAGGER_UI_DIST": "SIDECAR",
+    "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
+    "REDOC_DIST": "SIDECAR",
+    "ENUM_NAME_OVERRIDES": {
+        "LaserClassEnum": "registry.models.LaserClass",
+        "LaserStatusEnum": "registry.models.LaserStatus",
+        "DiameterDefinitionEnum": "registry.models.DiameterDefinition",
+        "AuthorizationStatusEnum": "registry.models.AuthorizationStatus",
+        "SOPStatusEnum": "registry.models.SOPStatus",
+        "AuditStatusEnum": "registry.models.AuditStatus",
+        "FindingStatusEnum": "registry.models.FindingStatus",
+        "IncidentStatusEnum": "registry.models.IncidentStatus",
+    },
+    "POSTPROCESSING_HOOKS": [
+        "drf_spectacular.hooks.postprocess_schema_enums",
+        "registry.schema.add_error_responses",
+    ],
+}

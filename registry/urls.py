@@ -2,10 +2,11 @@
 from __future__ import annotations
 
 from django.contrib import admin
-from django.urls import path
+from django.urls import include, path
 from django.views.generic import RedirectView
 
 urlpatterns = [
     path("admin/", admin.site.urls),
+    path("api/v1/", include("registry.api.urls", namespace="api")),
     path("", RedirectView.as_view(pattern_name="admin:index", permanent=False), name="home"),
 ]

@@ -1,0 +1,175 @@
+"""Benchmark of the laser list endpoint against a bare values() JSON view over the same rows.
+
+Seeds 10,000 lasers (each with one emission and one stored hazard result) in a fresh
+SQLite database in a temporary directory, or in the database DATABASE_URL names (whose
+register tables are emptied first, so point it at a scratch database). Then requests
+pages of 100 in-process through the whole middleware stack, token-authenticated as the
+LSO, and prints p50/p95 latency and the query count per request of
+
+- GET /api/v1/lasers/?page_size=100 (emissions and hazard results embedded), and
+- a bare Django view returning ``Laser.objects.values(...)`` for the same 100 rows as JSON,
+- for scale, a bare view returning the same lasers with their emissions and results
+  (three values() queries joined in Python, no serializers),
+
+with the ratios. Goal: the API within 3x of the bare view, with a constant query count.
+Run from the project root: ``python bench/api.py [--requests 200]``.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import sys
+import tempfile
+import time
+from collections.abc import Callable
+from pathlib import Path
+
+LASERS = 10_000
+PAGE_SIZE = 100
+
+
+def _setup_django(database_dir: Path) -> None:
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+    os.environ.setdefault("DJANGO_SETTINGS_MODULE", "registry.settings")
+    os.environ.setdefault("DATABASE_URL", f"sqlite:///{database_dir / 'bench.sqlite3'}")
+    os.environ.setdefault("ALLOWED_HOSTS", "testserver")
+    import django
+
+    django.setup()
+
+
+def _seed() -> str:
+    """The lasers, emissions and results, in bulk; returns the LSO's API token."""
+    from django.core.management import call_command
+    from django.utils import timezone
+    from rest_framework.authtoken.models import Token
+
+    from registry import services
+    from registry.models import Emission, HazardResult, Laser, Person
+
+    call_command("migrate", verbosity=0)
+    call_command("flush", interactive=False, verbosity=0)
+    lso = services.person_create(username="bench-lso", role="lso")
+    owner = services.person_create(username="bench-owner", role="researcher")
+    room = services.location_create(code="bench-1", site="Bench", building="Bench Hall", room="1", by=lso)
+    lasers = Laser.objects.bulk_create(
+        (Laser(asset_tag=f"B-{number:05d}", laser_type="diode", labelled_class="3B", status="active", owner=owner,
+               location=room, manufacturer="Bench Optics", model_name=f"BX-{number % 40}")
+         for number in range(LASERS)), batch_size=2000)
+    emissions = Emission.objects.bulk_create(
+        (Emission(laser=laser, wavelength_m=405e-9 + (laser.pk % 300) * 1e-9, temporal_mode="cw",
+                  average_power_W=0.1, beam_diameter_m=1e-3, divergence_rad=1e-3) for laser in lasers),
+        batch_size=2000)
+    HazardResult.objects.bulk_create(
+        (HazardResult(emission=emission, limits="icnirp2013", exposure_s=0.25, eye_mpe_J_m2=6.36, eye_mpe_W_m2=25.4,
+                      nohd_m=12.0, od_required=2.1, en207_marking="D LB2", engine_version="bench",
+                      computed_at=timezone.now()) for emission in emissions), batch_size=2000)
+    assert Person.objects.count() == 2
+    return Token.objects.create(user=lso.user).key
+
+
+def bare_laser_page(request: object) -> object:
+    """The comparison: the same page of laser rows, straight from values() to JSON."""
+    from django.http import JsonResponse
+
+    from registry.models import Laser
+
+    page = int(request.GET.get("page", "1"))  # type: ignore[attr-defined]
+    offset = (page - 1) * PAGE_SIZE
+    rows = list(Laser.objects.order_by("asset_tag").values(
+        "id", "asset_tag", "manufacturer", "model_name", "serial_number", "laser_type", "labelled_class",
+        "embedded_class", "status", "owner_id", "location_id", "description")[offset:offset + PAGE_SIZE])
+    return JsonResponse({"count": Laser.objects.count(), "results": rows})
+
+
+def bare_nested_page(request: object) -> object:
+    """The same page with each laser's emissions and results, from three values() queries."""
+    from django.http import JsonResponse
+
+    from registry.models import Emission, HazardResult, Laser
+
+    page = int(request.GET.get("page", "1"))  # type: ignore[attr-defined]
+    offset = (page - 1) * PAGE_SIZE
+    lasers = list(Laser.objects.order_by("asset_tag").values()[offset:offset + PAGE_SIZE])
+    emissions = list(Emission.objects.filter(laser_id__in=[row["id"] for row in lasers]).values())
+    results = list(HazardResult.objects.filter(emission_id__in=[row["id"] for row in emissions]).values())
+    by_emission: dict[int, list[dict[str, object]]] = {}
+    for row in results:
+        by_emission.setdefault(row["emission_id"], []).append(row)
+    by_laser: dict[int, list[dict[str, object]]] = {}
+    for row in emissions:
+        by_laser.setdefault(row["laser_id"], []).append({**row, "hazard_results": by_emission.get(row["id"], [])})
+    rows = [{**row, "emissions": by_laser.get(row["id"], [])} for row in lasers]
+    return JsonResponse({"count": Laser.objects.count(), "results": rows})
+
+
+def _measure(call: Callable[[int], object], requests: int) -> tuple[float, float, list[int]]:
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    pages = LASERS // PAGE_SIZE
+    call(1)  # warm up: imports, prepared statements, caches
+    timings: list[float] = []
+    queries: list[int] = []
+    for number in range(requests):
+        with CaptureQueriesContext(connection) as captured:
+            start = time.perf_counter()
+            call(1 + number % pages)
+            timings.append(time.perf_counter() - start)
+        queries.append(len(captured.captured_queries))
+    timings.sort()
+    return statistics.median(timings), timings[int(0.95 * (len(timings) - 1))], sorted(set(queries))
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--requests", type=int, default=200, help="requests per endpoint (default 200)")
+    args = parser.parse_args()
+
+    with tempfile.TemporaryDirectory() as directory:
+        _setup_django(Path(directory))
+        from django.conf import settings
+        from django.test import Client
+        from django.test.utils import override_settings
+        from django.urls import include, path
+
+        token = _seed()
+        client = Client(HTTP_AUTHORIZATION=f"Token {token}")
+        global urlpatterns
+        urlpatterns = [path("bare/lasers/", bare_laser_page), path("bare/nested/", bare_nested_page),
+                       path("", include(settings.ROOT_URLCONF))]
+
+        def api(page: int) -> object:
+            response = client.get("/api/v1/lasers/", {"page_size": PAGE_SIZE, "page": page})
+            assert response.status_code == 200 and len(response.json()["results"]) == PAGE_SIZE
+            return response
+
+        def bare(page: int) -> object:
+            response = client.get("/bare/lasers/", {"page": page})
+            assert response.status_code == 200 and len(response.json()["results"]) == PAGE_SIZE
+            return response
+
+        def nested(page: int) -> object:
+            response = client.get("/bare/nested/", {"page": page})
+            assert response.status_code == 200 and len(response.json()["results"]) == PAGE_SIZE
+            return response
+
+        with override_settings(ROOT_URLCONF=sys.modules[__name__]):
+            api_p50, api_p95, api_queries = _measure(api, args.requests)
+            bare_p50, bare_p95, bare_queries = _measure(bare, args.requests)
+            nested_p50, nested_p95, nested_queries = _measure(nested, args.requests)
+        vendor = settings.DATABASES["default"]["ENGINE"].rsplit(".", 1)[-1]
+
+    print(f"{LASERS} lasers, page size {PAGE_SIZE}, {args.requests} requests each, database {vendor}")
+    print(f"  API list     p50 {api_p50 * 1e3:7.1f} ms   p95 {api_p95 * 1e3:7.1f} ms   queries {api_queries}")
+    print(f"  bare values  p50 {bare_p50 * 1e3:7.1f} ms   p95 {bare_p95 * 1e3:7.1f} ms   queries {bare_queries}")
+    print(f"  bare nested  p50 {nested_p50 * 1e3:7.1f} ms   p95 {nested_p95 * 1e3:7.1f} ms   queries {nested_queries}")
+    print(f"  ratio        p50 {api_p50 / bare_p50:7.2f} x    p95 {api_p95 / bare_p95:7.2f} x   (goal: within 3x)")
+    print(f"  ratio to the nested bare view   p50 {api_p50 / nested_p50:7.2f} x    p95 {api_p95 / nested_p95:7.2f} x")
+
+
+urlpatterns: list[object] = []
+
+if __name__ == "__main__":
+    main()

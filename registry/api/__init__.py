@@ -1,0 +1,1 @@
+"""The register over HTTP: DRF viewsets under /api/v1/ (see registry.api.urls)."""

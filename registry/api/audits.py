@@ -1,0 +1,163 @@
+"""Audits (plan, start, answer the checklist, raise findings, sign off), findings and incidents."""
+from __future__ import annotations
+
+from typing import Any
+
+from django.shortcuts import get_object_or_404
+from drf_spectacular.utils import OpenApiResponse, extend_schema
+from rest_framework import serializers, status
+from rest_framework.decorators import action
+from rest_framework.request import Request
+from rest_framework.response import Response
+
+from registry import permissions, selectors
+from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
+from registry.api.errors import service_errors
+from registry.filters import FindingFilter, IncidentFilter
+from registry.models import Audit, Incident
+from registry.serializers.audits import (
+    AuditSerializer,
+    AuditSignOffSerializer,
+    AuditStartSerializer,
+    ChecklistAnswerSerializer,
+    ChecklistItemSerializer,
+    FindingCloseSerializer,
+    FindingRaiseSerializer,
+    FindingSerializer,
+    IncidentCloseSerializer,
+    IncidentSerializer,
+)
+from registry.services import audits as audit_services
+from registry.services import incidents as incident_services
+
+_CONFLICT = OpenApiResponse(description="The record's status does not allow this step (the body says why).")
+
+
+@retirable(AuditSerializer)
+class AuditViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+    """Audits with their checklist and findings: plan, start, answer, raise findings, sign off."""
+
+    policy = permissions.AUDITS
+    serializer_class = AuditSerializer
+    input_serializer_classes = {
+        "start": AuditStartSerializer,
+        "answer": ChecklistAnswerSerializer,
+        "raise_finding": FindingRaiseSerializer,
+        "sign_off": AuditSignOffSerializer,
+    }
+    filterset_fields = ["scope", "status", "location", "auditor"]
+    ordering_fields = ["planned_on", "conducted_on", "reference"]
+    ordering = ["-planned_on", "reference"]
+    search_fields = ["reference", "summary", "site"]
+
+    def base_queryset(self) -> Any:
+        return selectors.audit_list()
+
+    @extend_schema(summary="Plan an audit with its checklist questions (LSO)")
+    def create(self, request: Request, *args: Any, **kwargs: Any) -> Response:
+        return super().create(request, *args, **kwargs)
+
+    def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Audit:
+        with service_errors(serializer):
+            return audit_services.audit_plan(by=self.person, **serializer.validated_data)
+
+    @extend_schema(request=AuditStartSerializer, responses={200: AuditSerializer, 409: _CONFLICT},
+                   summary="Start a planned audit")
+    @action(detail=True, methods=["post"])
+    def start(self, request: Request, pk: str | None = None) -> Response:
+        audit, values = self.step_input()
+        with service_errors():
+            audit = audit_services.audit_start(audit=audit, by=self.person, **values)
+        return self.respond_with(audit)
+
+    @extend_schema(request=ChecklistAnswerSerializer, responses=ChecklistItemSerializer,
+                   summary="Answer one checklist item of an audit in progress")
+    @action(detail=True, methods=["post"])
+    def answer(self, request: Request, pk: str | None = None) -> Response:
+        audit, values = self.step_input()
+        item = get_object_or_404(audit.checklist.all(), position=values.pop("position"))
+        with service_errors():
+            item = audit_services.audit_answer(item=item, by=self.person, **values)
+        return Response(ChecklistItemSerializer(item).data)
+
+    @extend_schema(request=FindingRaiseSerializer, responses={201: FindingSerializer},
+                   summary="Raise a finding during an audit in progress")
+    @action(detail=True, methods=["post"], url_path="findings")
+    def raise_finding(self, request: Request, pk: str | None = None) -> Response:
+        audit, values = self.step_input()
+        with service_errors():
+            finding = audit_services.finding_raise(audit=audit, by=self.person, **values)
+        return Response(FindingSerializer(finding).data, status=status.HTTP_201_CREATED)
+
+    @extend_schema(request=AuditSignOffSerializer, responses={200: AuditSerializer, 409: _CONFLICT},
+                   summary="Sign the audit off once every checklist item is answered (LSO)")
+    @action(detail=True, methods=["post"], url_path="sign-off")
+    def sign_off(self, request: Request, pk: str | None = None) -> Response:
+        audit, values = self.step_input()
+        with service_errors():
+            audit = audit_services.audit_sign_off(audit=audit, by=self.person, **values)
+        return self.respond_with(audit)
+
+
+@retirable(FindingSerializer)
+class FindingViewSet(RetireRecordMixin, RegisterViewSet):
+    """Audit findings; the action owner closes one with the evidence."""
+
+    policy = permissions.FINDINGS
+    serializer_class = FindingSerializer
+    input_serializer_classes = {"close": FindingCloseSerializer}
+    filterset_class = FindingFilter
+    ordering_fields = ["due_on", "severity", "status"]
+    ordering = ["audit", "status", "due_on"]
+    search_fields = ["description", "corrective_action"]
+
+    def base_queryset(self) -> Any:
+        return selectors.finding_list()
+
+    @extend_schema(request=FindingCloseSerializer, responses={200: FindingSerializer, 409: _CONFLICT},
+                   summary="Close a finding with the evidence of correction")
+    @action(detail=True, methods=["post"])
+    def close(self, request: Request, pk: str | None = None) -> Response:
+        finding, values = self.step_input()
+        with service_errors():
+            finding = audit_services.finding_close(finding=finding, by=self.person, **values)
+        return self.respond_with(finding)
+
+
+@retirable(IncidentSerializer)
+class IncidentViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+    """Exposures and near misses, their investigation and follow-up."""
+
+    policy = permissions.INCIDENTS
+    serializer_class = IncidentSerializer
+    input_serializer_classes = {"close": IncidentCloseSerializer}
+    filterset_class = IncidentFilter
+    ordering_fields = ["occurred_at", "status"]
+    ordering = ["-occurred_at"]
+    search_fields = ["reference", "description"]
+
+    def base_queryset(self) -> Any:
+        return selectors.incident_list()
+
+    def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Incident:
+        with service_errors(serializer):
+            return incident_services.incident_report(reported_by=self.person, **serializer.validated_data)
+
+    @extend_schema(request=None, responses={200: IncidentSerializer, 409: _CONFLICT},
+                   summary="Open the investigation of a reported incident (LSO)")
+    @action(detail=True, methods=["post"])
+    def investigate(self, request: Request, pk: str | None = None) -> Response:
+        incident = self.get_object()
+        self.check_optional_if_match(incident)
+        with service_errors():
+            incident = incident_services.incident_investigate(incident=incident, by=self.person)
+        return self.respond_with(incident)
+
+    @extend_schema(request=IncidentCloseSerializer, responses={200: IncidentSerializer, 409: _CONFLICT},
+                   summary="Close an incident with its follow-up (LSO)")
+    @action(detail=True, methods=["post"])
+    def close(self, request: Request, pk: str | None = None) -> Response:
+        incident, values = self.step_input()
+        with service_errors():
+            incident = incident_services.incident_close(incident=incident, by=self.person, **values)
+        return self.respond_with(incident)

@@ -1,0 +1,41 @@
+"""/api/v1/: the register's viewsets, evaluation, token sign-in, schema and docs."""
+from __future__ import annotations
+
+from django.urls import include, path
+from rest_framework.routers import DefaultRouter
+
+# Registers the OpenAPI description of quantity fields with drf-spectacular.
+import registry.schema  # noqa: F401
+from registry.api import docs
+from registry.api.auth import TokenSignInView
+from registry.api.evaluate import EvaluateView
+from registry.api.audits import AuditViewSet, FindingViewSet, IncidentViewSet
+from registry.api.lasers import EmissionViewSet, HazardResultViewSet, LaserViewSet
+from registry.api.people import AuthorizationViewSet, PersonViewSet, SOPViewSet, TrainingRecordViewSet
+from registry.api.places import EyewearViewSet, LocationViewSet
+
+app_name = "api"
+
+router = DefaultRouter()
+router.include_root_view = False
+router.register("locations", LocationViewSet, basename="location")
+router.register("lasers", LaserViewSet, basename="laser")
+router.register("emissions", EmissionViewSet, basename="emission")
+router.register("hazard-results", HazardResultViewSet, basename="hazard-result")
+router.register("people", PersonViewSet, basename="person")
+router.register("training-records", TrainingRecordViewSet, basename="training-record")
+router.register("authorizations", AuthorizationViewSet, basename="authorization")
+router.register("sops", SOPViewSet, basename="sop")
+router.register("eyewear", EyewearViewSet, basename="eyewear")
+router.register("audits", AuditViewSet, basename="audit")
+router.register("findings", FindingViewSet, basename="finding")
+router.register("incidents", IncidentViewSet, basename="incident")
+
+urlpatterns = [
+    path("schema/", docs.SchemaView.as_view(), name="schema"),
+    path("docs/", docs.SwaggerDocsView.as_view(url_name="api:schema"), name="docs"),
+    path("docs/redoc/", docs.RedocDocsView.as_view(url_name="api:schema"), name="redoc"),
+    path("auth/token/", TokenSignInView.as_view(), name="token"),
+    path("evaluate/", EvaluateView.as_view(), name="evaluate"),
+    path("", include(router.urls)),
+]

@@ -1,0 +1,1 @@
+"""API representations of the register's records (one module per topic)."""

@@ -1,0 +1,105 @@
+"""Audits with their checklist and findings, and incidents."""
+from __future__ import annotations
+
+from rest_framework import serializers
+
+from registry.models import (
+    Audit,
+    AuditChecklistItem,
+    ChecklistAnswer,
+    Finding,
+    FindingSeverity,
+    Incident,
+    Laser,
+    Location,
+    Person,
+)
+
+
+class ChecklistItemSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    class Meta:
+        model = AuditChecklistItem
+        fields = ["id", "position", "question", "answer", "comment"]
+        read_only_fields = fields
+
+
+class FindingSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    owner_name = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Finding
+        fields = ["id", "audit", "laser", "location", "severity", "description", "corrective_action", "owner",
+                  "owner_name", "due_on", "status", "closed_on", "closed_by", "closure_evidence", "retired_at",
+                  "retirement_reason", "created_at", "updated_at"]
+        read_only_fields = fields
+
+    def get_owner_name(self, finding: Finding) -> str:
+        return str(finding.owner)
+
+
+class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    checklist = ChecklistItemSerializer(many=True, read_only=True)
+    findings = FindingSerializer(many=True, read_only=True)
+    questions = serializers.ListField(
+        child=serializers.CharField(max_length=300), write_only=True, required=False,
+        help_text="Checklist questions in order (when planning the audit).",
+    )
+    lasers = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), many=True, required=False)
+
+    class Meta:
+        model = Audit
+        fields = ["id", "reference", "scope", "location", "lasers", "site", "planned_on", "conducted_on", "auditor",
+                  "status", "summary", "signed_off_by", "signed_off_at", "checklist", "findings", "questions",
+                  "retired_at", "retirement_reason", "created_at", "updated_at"]
+        read_only_fields = ["conducted_on", "status", "summary", "signed_off_by", "signed_off_at", "retired_at",
+                            "retirement_reason", "created_at", "updated_at"]
+
+
+class AuditStartSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    conducted_on = serializers.DateField(required=False, allow_null=True, default=None,
+                                         help_text="Date of the audit visit (default today).")
+
+
+class ChecklistAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    position = serializers.IntegerField(min_value=1, help_text="The checklist item's position in the audit.")
+    answer = serializers.ChoiceField(choices=[choice for choice in ChecklistAnswer.choices if choice[0]])
+    comment = serializers.CharField(required=False, allow_blank=True, default="")
+
+
+class FindingRaiseSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    severity = serializers.ChoiceField(choices=FindingSeverity.choices)
+    description = serializers.CharField()
+    owner = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(),
+                                               help_text="Who is responsible for the corrective action.")
+    laser = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), required=False, allow_null=True,
+                                               default=None)
+    location = serializers.PrimaryKeyRelatedField(queryset=Location.objects.all(), required=False, allow_null=True,
+                                                  default=None)
+    corrective_action = serializers.CharField(required=False, allow_blank=True, default="")
+    due_on = serializers.DateField(required=False, allow_null=True, default=None)
+
+
+class AuditSignOffSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    summary = serializers.CharField(required=False, allow_null=True, default=None,
+                                    help_text="The audit's conclusion; omit to keep the current summary.")
+
+
+class FindingCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    evidence = serializers.CharField(help_text="What was done and where it can be checked.")
+    closed_on = serializers.DateField(required=False, allow_null=True, default=None)
+
+
+class IncidentSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    people_involved = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(), many=True, required=False)
+
+    class Meta:
+        model = Incident
+        fields = ["id", "reference", "kind", "occurred_at", "laser", "location", "reported_by", "people_involved",
+                  "description", "follow_up", "status", "closed_at", "retired_at", "retirement_reason",
+                  "created_at", "updated_at"]
+        read_only_fields = ["reported_by", "follow_up", "status", "closed_at", "retired_at", "retirement_reason",
+                            "created_at", "updated_at"]
+
+
+class IncidentCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    follow_up = serializers.CharField(help_text="What was done after the incident.")

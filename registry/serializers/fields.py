@@ -1,0 +1,95 @@
+"""Serializer fields for physical quantities.
+
+Every physical input accepts a number in the field's documented SI unit or a string with
+its own unit ("5 mW", "10 ns", "1.2 mrad"); hazards.units.parse_quantity does the reading,
+so the API, the CLI and the forms agree on what a value means. Responses give the SI
+number and, beside it, a human-readable string (``<name>_text``).
+"""
+from __future__ import annotations
+
+from typing import Any
+
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import extend_schema_field
+from rest_framework import serializers
+
+from hazards.errors import InputError
+from hazards.units import format_si, parse_quantity
+
+# The string form documented in the schema: it starts with a number (JSON Schema patterns
+# are not anchored at the end). Whether the unit exists and has the right dimension is
+# pint's call, so the schema cannot say it.
+QUANTITY_TEXT_PATTERN = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?"
+
+
+class QuantityField(serializers.Field):
+    """A float stored in ``unit``; input is a number in ``unit`` or a string with units.
+
+    A wrong dimension, an unreadable value or one outside [minimum, maximum] is a 400
+    naming the field and saying what was expected.
+    """
+
+    def __init__(
+        self,
+        *,
+        unit: str,
+        minimum: float | None = None,
+        maximum: float | None = None,
+        inclusive_minimum: bool = True,
+        example: str = "",
+        **kwargs: Any,
+    ) -> None:
+        self.unit = unit
+        self.minimum = minimum
+        self.maximum = maximum
+        self.inclusive_minimum = inclusive_minimum
+        self.example = example
+        super().__init__(**kwargs)
+
+    def to_internal_value(self, data: object) -> float:
+        try:
+            return parse_quantity(data, field=self.field_name, unit=self.unit, minimum=self.minimum,
+                                  maximum=self.maximum, inclusive_minimum=self.inclusive_minimum)
+        except InputError as error:
+            raise serializers.ValidationError(error.message, code="invalid_quantity") from None
+
+    def to_representation(self, value: float) -> float:
+        return float(value)
+
+
+@extend_schema_field(OpenApiTypes.STR)
+class QuantityTextField(serializers.ReadOnlyField):
+    """The same stored value as a string with a metric prefix: 5.32e-07 -> "532 nm"."""
+
+    def __init__(self, *, unit: str, **kwargs: Any) -> None:
+        self.unit = unit
+        super().__init__(**kwargs)
+
+    def to_representation(self, value: float | None) -> str | None:
+        if value is None:
+            return None
+        return _readable(format_si(float(value), self.unit))
+
+
+class QuantitySerializerMixin:
+    """Adds a read-only ``<name>_text`` beside every QuantityField of the serializer.
+
+    Declaring each pair by hand would double every physical field; doing it in
+    get_fields() keeps the pairs in the schema as well as in the responses.
+    """
+
+    def get_fields(self) -> dict[str, serializers.Field]:
+        fields: dict[str, serializers.Field] = super().get_fields()  # type: ignore[misc]
+        for name, field in list(fields.items()):
+            if isinstance(field, QuantityField) and f"{name}_text" not in fields:
+                example = field.example or _readable(f"1 {field.unit}")
+                fields[f"{name}_text"] = QuantityTextField(
+                    unit=field.unit, source=field.source or name, allow_null=field.allow_null,
+                    help_text=f"{name} as text with a metric prefix, e.g. '{example}'.",
+                )
+        return fields
+
+
+def _readable(text: str) -> str:
+    """pint's exponent notation as people write it: "J/m**2" -> "J/m²"."""
+    return text.replace("**2", "\u00b2")

@@ -1,0 +1,113 @@
+"""People, their training, their authorizations, and the SOPs they acknowledge."""
+from __future__ import annotations
+
+from rest_framework import serializers
+
+from registry.models import SOP, Authorization, CourseKind, Laser, Person, TrainingRecord
+from registry.permissions import editable_lasers, requestable_people
+from registry.serializers.base import ScopedRelatedField
+
+
+class PersonSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    username = serializers.CharField(source="user.username", read_only=True)
+    name = serializers.SerializerMethodField()
+    email = serializers.CharField(source="user.email", read_only=True, help_text="Empty when not on record.")
+    research_group_name = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Person
+        fields = ["id", "username", "name", "email", "role", "research_group", "research_group_name", "supervisor",
+                  "phone", "created_at", "updated_at"]
+        read_only_fields = fields
+
+    def get_name(self, person: Person) -> str:
+        return str(person)
+
+    def get_research_group_name(self, person: Person) -> str | None:
+        return None if person.research_group is None else person.research_group.name
+
+
+class TrainingRecordSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    person_name = serializers.SerializerMethodField()
+    course = serializers.ChoiceField(choices=CourseKind.choices)
+
+    class Meta:
+        model = TrainingRecord
+        fields = ["id", "person", "person_name", "course", "laser", "title", "completed_on", "valid_until",
+                  "evidence", "verified_by", "retired_at", "retirement_reason", "created_at", "updated_at"]
+        read_only_fields = ["retired_at", "retirement_reason", "created_at", "updated_at"]
+
+    def get_person_name(self, record: TrainingRecord) -> str:
+        return str(record.person)
+
+    def validate(self, attrs: dict[str, object]) -> dict[str, object]:
+        completed_on, valid_until = attrs.get("completed_on"), attrs.get("valid_until")
+        if valid_until is not None and completed_on is not None and valid_until < completed_on:  # type: ignore[operator]
+            raise serializers.ValidationError({"valid_until": "must not be before completed_on."})
+        if attrs.get("course") == CourseKind.EQUIPMENT and attrs.get("laser") is None:
+            raise serializers.ValidationError({"laser": "equipment-specific training names its laser."})
+        return attrs
+
+
+class AuthorizationSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    person = ScopedRelatedField(queryset=Person.objects.all(), narrow=requestable_people,
+                                help_text="Who is to be authorized (for a researcher: someone in their group).")
+    laser = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), help_text="An active laser.")
+    person_name = serializers.SerializerMethodField()
+    laser_asset_tag = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Authorization
+        fields = ["id", "person", "person_name", "laser", "laser_asset_tag", "status", "conditions",
+                  "requested_by", "requested_at", "decided_by", "decided_at", "decision_reason", "valid_until",
+                  "retired_at", "retirement_reason", "created_at", "updated_at"]
+        read_only_fields = ["status", "requested_by", "requested_at", "decided_by", "decided_at", "decision_reason",
+                            "valid_until", "retired_at", "retirement_reason", "created_at", "updated_at"]
+
+    def get_person_name(self, authorization: Authorization) -> str:
+        return str(authorization.person)
+
+    def get_laser_asset_tag(self, authorization: Authorization) -> str:
+        return authorization.laser.asset_tag
+
+
+class AuthorizationApprovalSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    valid_until = serializers.DateField(required=False, allow_null=True, default=None,
+                                        help_text="Last day the authorization holds (none: until revoked).")
+    conditions = serializers.CharField(required=False, allow_null=True, default=None,
+                                       help_text="Conditions of use; omit to keep those of the request.")
+    reason = serializers.CharField(required=False, allow_blank=True, default="")
+
+
+class AuthorizationRefusalSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    reason = serializers.CharField(help_text="Why the request is refused (shown to the requester).")
+
+
+class PrerequisitesSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    missing = serializers.ListField(child=serializers.CharField(),
+                                    help_text="What still stands between the person and approval; empty when ready.")
+
+
+class SOPSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=editable_lasers,
+                               help_text="The laser the SOP is for (one you may edit).")
+    document = serializers.FileField(required=False, allow_null=True,
+                                     help_text="The procedure document; upload as multipart/form-data.")
+
+    class Meta:
+        model = SOP
+        fields = ["id", "laser", "title", "version", "status", "summary", "document", "approved_on", "approved_by",
+                  "review_due", "retired_at", "retirement_reason", "created_at", "updated_at"]
+        read_only_fields = ["version", "status", "approved_on", "approved_by", "review_due", "retired_at",
+                            "retirement_reason", "created_at", "updated_at"]
+
+
+class SOPApprovalSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    review_due = serializers.DateField(required=False, allow_null=True, default=None,
+                                       help_text="When the procedure is next to be reviewed.")
+
+
+class SOPAcknowledgementSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    sop = serializers.IntegerField(source="sop_id", read_only=True)
+    person = serializers.IntegerField(source="person_id", read_only=True)
+    acknowledged_at = serializers.DateTimeField(read_only=True)

@@ -1,0 +1,83 @@
+"""The interactive API documentation renders in a real browser with no internet access.
+
+Playwright drives Debian's chromium (no browser download). Its sync API runs an event
+loop in the test thread for as long as Playwright is open, during which Django refuses
+ORM calls (pytest-django's teardown flush among them) unless DJANGO_ALLOW_ASYNC_UNSAFE is
+set. So Playwright is started per module here, rather than through pytest-playwright's
+session-wide fixtures, and the variable is set only while it runs: it must not leak into
+the rest of the suite (test_settings runs `check --deploy`, which warns about it).
+"""
+from __future__ import annotations
+
+import os
+from collections.abc import Iterator
+from typing import Any
+from urllib.parse import urlsplit
+
+import pytest
+from playwright.sync_api import Browser, Page, sync_playwright
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
+CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+
+pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
+
+
+@pytest.fixture(scope="module")
+def browser() -> Iterator[Browser]:
+    previous = os.environ.get("DJANGO_ALLOW_ASYNC_UNSAFE")
+    os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
+    try:
+        with sync_playwright() as playwright:
+            browser = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_FLAGS)
+            yield browser
+            browser.close()
+    finally:
+        if previous is None:
+            del os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"]
+        else:
+            os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = previous
+
+
+@pytest.fixture
+def page(browser: Browser) -> Iterator[Page]:
+    context = browser.new_context()
+    yield context.new_page()
+    context.close()
+
+
+def _offline(page: Page, server: str) -> list[str]:
+    """Refuse every request that leaves the test server; return the addresses attempted."""
+    outside: list[str] = []
+    local = urlsplit(server).netloc
+
+    def route(route: Any) -> None:
+        if urlsplit(route.request.url).netloc == local:
+            route.continue_()
+        else:
+            outside.append(route.request.url)
+            route.abort()
+
+    page.route("**/*", route)
+    return outside
+
+
+def test_swagger_ui_lists_the_operations_without_any_outside_request(live_server: Any, page: Page) -> None:
+    outside = _offline(page, live_server.url)
+    failed: list[str] = []
+    page.on("requestfailed", lambda request: failed.append(request.url))
+    page.goto(f"{live_server.url}/api/v1/docs/")
+    page.wait_for_selector(".opblock", timeout=15_000)
+    assert page.locator(".opblock").count() >= 60
+    assert page.get_by_text("/api/v1/evaluate/").count() >= 1
+    assert outside == []
+    assert failed == []
+
+
+def test_redoc_renders_the_schema_offline(live_server: Any, page: Page) -> None:
+    outside = _offline(page, live_server.url)
+    page.goto(f"{live_server.url}/api/v1/docs/redoc/")
+    page.locator("h2", has_text="Evaluate ad-hoc beam parameters").wait_for(timeout=15_000)
+    # Redoc's own footer logo is the only outside address its bundle knows.
+    assert [url for url in outside if "redoc" not in url] == []
