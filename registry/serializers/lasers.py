@@ -36,6 +36,10 @@ class HazardResultSerializer(QuantitySerializerMixin, serializers.ModelSerialize
     exposure_s = QuantityField(unit="s", read_only=True, help_text="Eye exposure duration the MPE assumes (s).")
     eye_mpe_J_m2 = QuantityField(unit="J/m**2", read_only=True, help_text="Eye MPE as radiant exposure (J/m²).")
     eye_mpe_W_m2 = QuantityField(unit="W/m**2", read_only=True, help_text="Eye MPE as irradiance (W/m²).")
+    eye_mpe_per_pulse_J_m2 = QuantityField(
+        unit="J/m**2", read_only=True, allow_null=True,
+        help_text="Pulsed emissions: the eye limit one pulse is compared with, from the governing pulse rule "
+                  "(J/m²); null for continuous wave.")
     skin_exposure_s = QuantityField(unit="s", read_only=True, allow_null=True,
                                     help_text="Skin exposure duration the skin MPE assumes (s).")
     skin_mpe_J_m2 = QuantityField(unit="J/m**2", read_only=True, allow_null=True,
@@ -58,7 +62,8 @@ class HazardResultSerializer(QuantitySerializerMixin, serializers.ModelSerialize
     class Meta:
         model = HazardResult
         fields = [
-            "id", "emission", "limits", "exposure_s", "eye_mpe_J_m2", "eye_mpe_W_m2", "skin_exposure_s",
+            "id", "emission", "limits", "exposure_s", "eye_mpe_J_m2", "eye_mpe_W_m2", "eye_mpe_per_pulse_J_m2",
+            "pulse_rule", "skin_exposure_s",
             "skin_mpe_J_m2", "skin_mpe_W_m2", "nohd_m", "nohd_unbounded", "diffuse_hazard_distance_m",
             "skin_hazard_distance_m", "od_required", "en207_marking", "warnings", "engine_version", "computed_at",
             "working_url", "caution",

@@ -52,9 +52,10 @@ class LaserListTests(TestCase):
             expected = stored[result["limits"]]
             self.assertEqual((result["nohd_m"], result["nohd_unbounded"], result["od_required"],
                               result["en207_marking"], result["exposure_s"], result["eye_mpe_W_m2"],
-                              result["engine_version"]),
+                              result["eye_mpe_per_pulse_J_m2"], result["pulse_rule"], result["engine_version"]),
                              (expected.nohd_m, expected.nohd_unbounded, expected.od_required, expected.en207_marking,
-                              expected.exposure_s, expected.eye_mpe_W_m2, expected.engine_version))
+                              expected.exposure_s, expected.eye_mpe_W_m2, None, "continuous wave",
+                              expected.engine_version))
             self.assertIn("never replace", result["caution"])
             working = self.client.get(result["working_url"])
             self.assertEqual(working.status_code, 200)
