@@ -3,8 +3,10 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 HOST ?= 127.0.0.1:8000
+# The suite runs on every core; pass PYTEST_ARGS= to run it in one process.
+PYTEST_ARGS ?= -n auto
 
-.PHONY: demo test install install-test bench clean
+.PHONY: demo test typecheck install install-test bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -29,6 +31,9 @@ demo: install
 
 test: install-test
 	$(BIN)/python -m pytest $(PYTEST_ARGS)
+
+typecheck: install-test
+	$(BIN)/python -m mypy hazards
 
 bench: install-test
 	$(BIN)/python bench/limits.py
