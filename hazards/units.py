@@ -77,8 +77,12 @@ def _from_text(text: str, *, field: str, unit: str) -> float:
         return float(ureg.Quantity(number, given).to(unit).magnitude)
     except pint.errors.DimensionalityError:
         raise InputError(
-            field, f"{text!r} is not a {_dimension_name(unit)} (expected a value in {unit} or compatible units)"
+            field, f"{text!r} is not {_with_article(_dimension_name(unit))} (expected a value in {unit} or compatible units)"
         ) from None
+
+
+def _with_article(noun: str) -> str:
+    return f"{'an' if noun[0] in 'aeiou' else 'a'} {noun}"
 
 
 def _dimension_name(unit: str) -> str:
