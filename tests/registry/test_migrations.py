@@ -3,9 +3,11 @@ from __future__ import annotations
 
 from io import StringIO
 
+import pytest
 from django.core.management import call_command
 
 
+@pytest.mark.django_db  # makemigrations reads the migration history table
 def test_the_models_need_no_migration_that_is_not_committed() -> None:
     output = StringIO()
     # --check exits non-zero (SystemExit) when a model change has no migration.
