@@ -3,10 +3,13 @@ and changes the record's state refuses (409 with the reason, nothing saved)."""
 from __future__ import annotations
 
 import datetime
+import shutil
+import tempfile
 from typing import Any
 
+from django.core.files.uploadedfile import SimpleUploadedFile
 from django.db.models import Model
-from django.test import TestCase
+from django.test import TestCase, override_settings
 from rest_framework.response import Response
 
 from registry import services
@@ -80,6 +83,24 @@ class IfMatchOnNewEndpointsTests(UpdateTestCase):
         self.assertEqual(self.world.draft_sop.review_due, datetime.date(2027, 5, 1))
         self.assertEqual(self.world.draft_sop.status, SOPStatus.DRAFT)
         self.assertEqual(self.world.draft_sop.history.latest().history_user, self.world.owner.user)
+
+
+class SOPDocumentTests(UpdateTestCase):
+    def test_the_owner_replaces_a_drafts_document_with_a_multipart_patch(self) -> None:
+        media = tempfile.mkdtemp()
+        self.addCleanup(shutil.rmtree, media)
+        url = f"{V}/sops/{self.world.draft_sop.pk}/"
+        client = self.world.client("owner")
+        etag = client.get(url)["ETag"]
+        with override_settings(MEDIA_ROOT=media):
+            response = client.patch(url, {"document": SimpleUploadedFile(
+                "alignment.txt", b"1. Close the enclosure before aligning.\n", content_type="text/plain")},
+                format="multipart", HTTP_IF_MATCH=etag)
+            self.assertEqual(response.status_code, 200, response.content[:400])
+            self.world.draft_sop.refresh_from_db()
+            with self.world.draft_sop.document.open() as document:
+                self.assertEqual(document.read(), b"1. Close the enclosure before aligning.\n")
+        self.assertIn("alignment", response.json()["document"])
 
 
 class FieldsAnUpdateCannotSetTests(UpdateTestCase):
