@@ -109,7 +109,7 @@ def refuse_unwritable_fields(serializer: BaseSerializer[Any], data: Any) -> None
     if not isinstance(serializer, Serializer) or not hasattr(data, "keys"):
         return
     fields = serializer.fields
-    errors = {}
+    errors: dict[str, list[str]] = {}
     for name in data.keys():
         field = fields.get(name)
         if field is None:
