@@ -143,6 +143,10 @@ def is_action_owner(person: Person, finding: Any) -> bool:
     return finding.owner_id == person.pk
 
 
+def reported_it(person: Person, incident: Any) -> bool:
+    return incident.reported_by_id == person.pk
+
+
 # --- scopes -------------------------------------------------------------------------------
 
 def group_people(person: Person) -> Q:
@@ -206,7 +210,13 @@ def _read(*roles: str, history: tuple[str, ...] = (LSO, INSPECTOR)) -> dict[str,
     return {"list": allow(*roles), "retrieve": allow(*roles), "history": allow(*history)}
 
 
-LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO)})
+def _edit(*roles: str, on_object: ObjectCheck | None = None) -> dict[str, Rule]:
+    """PUT and PATCH; which fields and in which states is the update service's decision."""
+    rule = allow(*roles, on_object=on_object)
+    return {"update": rule, "partial_update": rule}
+
+
+LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO), **_edit(LSO)})
 
 LASERS = Policy({
     **_read(*_READERS),
@@ -233,12 +243,12 @@ EMISSIONS = Policy({
 HAZARD_RESULTS = Policy({**_read(*_READERS), "working": allow(*_READERS)})
 
 PEOPLE = Policy(
-    {**_read(*_EVERYONE)},
+    {**_read(*_EVERYONE), **_edit(LSO)},
     scope={RESEARCHER: _people_in_group, USER: _only_self},
 )
 
 TRAINING_RECORDS = Policy(
-    {**_read(*_EVERYONE), "create": allow(LSO), "retire": allow(LSO)},
+    {**_read(*_EVERYONE), "create": allow(LSO), "retire": allow(LSO), **_edit(LSO)},
     scope={RESEARCHER: _records_of_group, USER: _records_of_self},
 )
 
@@ -261,6 +271,8 @@ SOPS = Policy(
     {
         **_read(*_EVERYONE),
         "create": allow(LSO, RESEARCHER),
+        # The researcher who owns the laser corrects their drafts; sop_update refuses approved versions.
+        **_edit(LSO, RESEARCHER, on_object=owns_parent_laser),
         "approve": allow(LSO),
         # Reading the SOP is a prerequisite of one's own authorization.
         "acknowledge": allow(LSO, RESEARCHER, USER),
@@ -270,7 +282,7 @@ SOPS = Policy(
 )
 
 EYEWEAR = Policy({**_read(*_READERS), "create": allow(LSO), "inspect": allow(LSO), "set_markings": allow(LSO),
-                  "retire": allow(LSO)})
+                  "retire": allow(LSO), **_edit(LSO)})
 
 AUDITS = Policy({
     **_read(LSO, INSPECTOR),
@@ -280,6 +292,7 @@ AUDITS = Policy({
     "raise_finding": allow(LSO),
     "sign_off": allow(LSO),
     "retire": allow(LSO),
+    **_edit(LSO),
 })
 
 FINDINGS = Policy(
@@ -288,12 +301,15 @@ FINDINGS = Policy(
         # The person who owns the corrective action closes it, giving the evidence.
         "close": allow(LSO, RESEARCHER, on_object=is_action_owner),
         "retire": allow(LSO),
+        **_edit(LSO),
     },
     scope={RESEARCHER: _findings_for_researcher},
 )
 
 INCIDENTS = Policy(
     {**_read(*_READERS), "create": allow(LSO, RESEARCHER), "investigate": allow(LSO), "close": allow(LSO),
-     "retire": allow(LSO)},
+     "retire": allow(LSO),
+     # The reporter may correct their account while the incident is open (incident_update).
+     **_edit(LSO, RESEARCHER, on_object=reported_it)},
     scope={RESEARCHER: _incidents_for_researcher},
 )

@@ -13,19 +13,23 @@ from rest_framework.response import Response
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
+from registry.api.etags import UpdateWithETagMixin
 from registry.filters import FindingFilter, IncidentFilter
-from registry.models import Audit, Incident
+from registry.models import Audit, Finding, Incident
 from registry.serializers.audits import (
     AuditSerializer,
     AuditSignOffSerializer,
     AuditStartSerializer,
+    AuditUpdateSerializer,
     ChecklistAnswerSerializer,
     ChecklistItemSerializer,
     FindingCloseSerializer,
     FindingRaiseSerializer,
     FindingSerializer,
+    FindingUpdateSerializer,
     IncidentCloseSerializer,
     IncidentSerializer,
+    IncidentUpdateSerializer,
 )
 from registry.services import audits as audit_services
 from registry.services import incidents as incident_services
@@ -34,12 +38,14 @@ _CONFLICT = OpenApiResponse(description="The record's status does not allow this
 
 
 @retirable(AuditSerializer)
-class AuditViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
     """Audits with their checklist and findings: plan, start, answer, raise findings, sign off."""
 
     policy = permissions.AUDITS
     serializer_class = AuditSerializer
     input_serializer_classes = {
+        "update": AuditUpdateSerializer,
+        "partial_update": AuditUpdateSerializer,
         "start": AuditStartSerializer,
         "answer": ChecklistAnswerSerializer,
         "raise_finding": FindingRaiseSerializer,
@@ -60,6 +66,10 @@ class AuditViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Audit:
         with service_errors(serializer):
             return audit_services.audit_plan(by=self.person, **serializer.validated_data)
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Audit:
+        with service_errors(serializer):
+            return audit_services.audit_update(audit=serializer.instance, by=self.person, **serializer.validated_data)
 
     @extend_schema(request=AuditStartSerializer, responses={200: AuditSerializer, 409: _CONFLICT},
                    summary="Start a planned audit")
@@ -100,12 +110,13 @@ class AuditViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
 
 
 @retirable(FindingSerializer)
-class FindingViewSet(RetireRecordMixin, RegisterViewSet):
+class FindingViewSet(UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
     """Audit findings; the action owner closes one with the evidence."""
 
     policy = permissions.FINDINGS
     serializer_class = FindingSerializer
-    input_serializer_classes = {"close": FindingCloseSerializer}
+    input_serializer_classes = {"update": FindingUpdateSerializer, "partial_update": FindingUpdateSerializer,
+                                "close": FindingCloseSerializer}
     filterset_class = FindingFilter
     ordering_fields = ["due_on", "severity", "status"]
     ordering = ["audit", "status", "due_on"]
@@ -113,6 +124,11 @@ class FindingViewSet(RetireRecordMixin, RegisterViewSet):
 
     def base_queryset(self) -> Any:
         return selectors.finding_list()
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Finding:
+        with service_errors(serializer):
+            return audit_services.finding_update(finding=serializer.instance, by=self.person,
+                                                 **serializer.validated_data)
 
     @extend_schema(request=FindingCloseSerializer, responses={200: FindingSerializer, 409: _CONFLICT},
                    summary="Close a finding with the evidence of correction")
@@ -125,12 +141,13 @@ class FindingViewSet(RetireRecordMixin, RegisterViewSet):
 
 
 @retirable(IncidentSerializer)
-class IncidentViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+class IncidentViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
     """Exposures and near misses, their investigation and follow-up."""
 
     policy = permissions.INCIDENTS
     serializer_class = IncidentSerializer
-    input_serializer_classes = {"close": IncidentCloseSerializer}
+    input_serializer_classes = {"update": IncidentUpdateSerializer, "partial_update": IncidentUpdateSerializer,
+                                "close": IncidentCloseSerializer}
     filterset_class = IncidentFilter
     ordering_fields = ["occurred_at", "status"]
     ordering = ["-occurred_at"]
@@ -142,6 +159,11 @@ class IncidentViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Incident:
         with service_errors(serializer):
             return incident_services.incident_report(reported_by=self.person, **serializer.validated_data)
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Incident:
+        with service_errors(serializer):
+            return incident_services.incident_update(incident=serializer.instance, by=self.person,
+                                                     **serializer.validated_data)
 
     @extend_schema(request=None, responses={200: IncidentSerializer, 409: _CONFLICT},
                    summary="Open the investigation of a reported incident (LSO)")

@@ -3,7 +3,7 @@
 Services raise Django's ValidationError keyed by the field at fault (so the admin and
 forms can show it beside the field). DRF leaves those alone, which would make them
 500s; here they become 400 with the same field keys, and the workflow refusals (an
-illegal status change, a missing prerequisite) become 409, since the request was well
+illegal status change, a missing prerequisite, a change the record's state forbids) become 409, since the request was well
 formed but the record's state does not allow it.
 """
 from __future__ import annotations
@@ -20,14 +20,17 @@ from rest_framework.response import Response
 from rest_framework.serializers import BaseSerializer, Serializer
 from rest_framework.views import exception_handler
 
-from registry.services.errors import PrerequisiteError, TransitionError
+from registry.services.errors import PrerequisiteError, StateError, TransitionError
+
+# Refusals of a well-formed request because of the record's state: 409, not 400.
+_STATE_REFUSALS = (TransitionError, PrerequisiteError, StateError)
 
 
 def api_exception_handler(error: Exception, context: dict[str, Any]) -> Response | None:
     if isinstance(error, DjangoValidationError):
         messages = _messages(error)
         body = ValidationError(messages if isinstance(messages, dict) else {"non_field_errors": messages}).detail
-        refused_by_state = isinstance(error, (TransitionError, PrerequisiteError))
+        refused_by_state = isinstance(error, _STATE_REFUSALS)
         return Response(body, status=status.HTTP_409_CONFLICT if refused_by_state else status.HTTP_400_BAD_REQUEST)
     if isinstance(error, IntegrityError):
         # full_clean() runs every constraint first; this is the rare race between two writers.
@@ -70,6 +73,6 @@ def service_errors(serializer: BaseSerializer[Any] | None = None) -> Iterator[No
             names = {field.source: name for name, field in serializer.fields.items()
                      if not field.read_only and field.source != "*"}
             body = {names.get(key, key): messages for key, messages in body.items()}
-        if isinstance(error, (TransitionError, PrerequisiteError)):
+        if isinstance(error, _STATE_REFUSALS):
             raise Conflict(body) from None
         raise ValidationError(body) from None

@@ -17,9 +17,10 @@ from django.db.models import Model
 from django.utils.http import parse_etags
 from rest_framework import status
 from rest_framework.generics import get_object_or_404
-from rest_framework.exceptions import APIException
+from rest_framework.exceptions import APIException, ValidationError
 from rest_framework.request import Request
 from rest_framework.response import Response
+from rest_framework.serializers import BaseSerializer, Serializer
 from rest_framework.utils.encoders import JSONEncoder
 
 
@@ -99,8 +100,30 @@ class ETagMixin:
             check_if_match(self.request, self.etag_of(instance), required=False)  # type: ignore[attr-defined]
 
 
+def refuse_unwritable_fields(serializer: BaseSerializer[Any], data: Any) -> None:
+    """400 naming every field of ``data`` the update cannot set.
+
+    DRF drops read-only and unknown keys without a word, so a client sending ``status``
+    in a PATCH would believe it had changed the status; it is told instead.
+    """
+    if not isinstance(serializer, Serializer) or not hasattr(data, "keys"):
+        return
+    fields = serializer.fields
+    errors: dict[str, list[str]] = {}
+    for name in data.keys():
+        field = fields.get(name)
+        if field is None:
+            errors[name] = ["This is not a field of this record."]
+        elif field.read_only:
+            errors[name] = ["This field is read-only: an update cannot change it (a status changes through "
+                            "the record's workflow actions)."]
+    if errors:
+        raise ValidationError(errors)
+
+
 class UpdateWithETagMixin:
-    """PUT and PATCH that require If-Match and check it against the locked, current record."""
+    """PUT and PATCH that require If-Match and check it against the locked, current record,
+    and refuse fields the update cannot set (read-only or unknown) instead of ignoring them."""
 
     def update(self, request: Request, *args: Any, **kwargs: Any) -> Response:
         partial = kwargs.pop("partial", False)
@@ -108,6 +131,7 @@ class UpdateWithETagMixin:
             instance = self.get_object_for_update()  # type: ignore[attr-defined]
             check_if_match(request, self.etag_of(instance), required=True)  # type: ignore[attr-defined]
             serializer = self.get_serializer(instance, data=request.data, partial=partial)  # type: ignore[attr-defined]
+            refuse_unwritable_fields(serializer, request.data)
             serializer.is_valid(raise_exception=True)
             # perform_update() calls the service and returns the saved record.
             updated = self.perform_update(serializer)  # type: ignore[attr-defined]

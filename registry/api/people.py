@@ -13,31 +13,37 @@ from rest_framework.response import Response
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
+from registry.api.etags import UpdateWithETagMixin
 from registry.filters import AuthorizationFilter, PersonFilter, TrainingRecordFilter
-from registry.models import SOP, Authorization, TrainingRecord
+from registry.models import SOP, Authorization, Person, TrainingRecord
 from registry.serializers.people import (
     AuthorizationApprovalSerializer,
     AuthorizationRefusalSerializer,
     AuthorizationSerializer,
     PersonSerializer,
+    PersonUpdateSerializer,
     PrerequisitesSerializer,
     SOPAcknowledgementSerializer,
     SOPApprovalSerializer,
     SOPSerializer,
+    SOPUpdateSerializer,
     TrainingRecordSerializer,
+    TrainingRecordUpdateSerializer,
 )
 from registry.services import authorizations as authorization_services
+from registry.services import people as people_services
 from registry.services import sops as sop_services
 from registry.services import training as training_services
 
 _CONFLICT = OpenApiResponse(description="The record's status, or a missing prerequisite, does not allow this.")
 
 
-class PersonViewSet(RegisterViewSet):
+class PersonViewSet(UpdateWithETagMixin, RegisterViewSet):
     """People and their roles; researchers see their own group, users themselves."""
 
     policy = permissions.PEOPLE
     serializer_class = PersonSerializer
+    input_serializer_classes = {"update": PersonUpdateSerializer, "partial_update": PersonUpdateSerializer}
     filterset_class = PersonFilter
     ordering_fields = ["user__username", "user__last_name", "role"]
     ordering = ["user__last_name", "user__first_name", "user__username"]
@@ -46,13 +52,20 @@ class PersonViewSet(RegisterViewSet):
     def base_queryset(self) -> Any:
         return selectors.person_list()
 
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Person:
+        with service_errors(serializer):
+            return people_services.person_update(person=serializer.instance, by=self.person,
+                                                 **serializer.validated_data)
+
 
 @retirable(TrainingRecordSerializer)
-class TrainingRecordViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
-    """Completed laser safety training; the LSO records it."""
+class TrainingRecordViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
+    """Completed laser safety training; the LSO records and corrects it."""
 
     policy = permissions.TRAINING_RECORDS
     serializer_class = TrainingRecordSerializer
+    input_serializer_classes = {"update": TrainingRecordUpdateSerializer,
+                                "partial_update": TrainingRecordUpdateSerializer}
     filterset_class = TrainingRecordFilter
     ordering_fields = ["completed_on", "valid_until"]
     ordering = ["person", "-completed_on"]
@@ -64,6 +77,11 @@ class TrainingRecordViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSe
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> TrainingRecord:
         with service_errors(serializer):
             return training_services.training_record(by=self.person, **serializer.validated_data)
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> TrainingRecord:
+        with service_errors(serializer):
+            return training_services.training_record_update(training_record=serializer.instance, by=self.person,
+                                                            **serializer.validated_data)
 
 
 @retirable(AuthorizationSerializer)
@@ -139,12 +157,13 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
 
 
 @retirable(SOPSerializer)
-class SOPViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
     """Standard operating procedures per laser: drafts, approval and acknowledgement."""
 
     policy = permissions.SOPS
     serializer_class = SOPSerializer
-    input_serializer_classes = {"approve": SOPApprovalSerializer}
+    input_serializer_classes = {"update": SOPUpdateSerializer, "partial_update": SOPUpdateSerializer,
+                                "approve": SOPApprovalSerializer}
     parser_classes = [JSONParser, MultiPartParser, FormParser]
     filterset_fields = ["laser", "status"]
     ordering_fields = ["version", "approved_on", "review_due"]
@@ -161,6 +180,10 @@ class SOPViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> SOP:
         with service_errors(serializer):
             return sop_services.sop_create(by=self.person, **serializer.validated_data)
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> SOP:
+        with service_errors(serializer):
+            return sop_services.sop_update(sop=serializer.instance, by=self.person, **serializer.validated_data)
 
     @extend_schema(request=SOPApprovalSerializer, responses={200: SOPSerializer, 409: _CONFLICT},
                    summary="Put a draft in force (LSO); the previous version is superseded")

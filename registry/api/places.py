@@ -12,22 +12,26 @@ from rest_framework.response import Response
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
 from registry.api.errors import service_errors
+from registry.api.etags import UpdateWithETagMixin
 from registry.filters import EyewearFilter, LocationFilter
 from registry.models import Eyewear, Location
 from registry.serializers.places import (
     EyewearInspectionSerializer,
     EyewearMarkingsSerializer,
     EyewearSerializer,
+    EyewearUpdateSerializer,
     LocationSerializer,
+    LocationUpdateSerializer,
 )
 from registry.services import eyewear as eyewear_services
 
 
-class LocationViewSet(CreateRecordMixin, RegisterViewSet):
+class LocationViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
     """Rooms where lasers and eyewear are kept."""
 
     policy = permissions.LOCATIONS
     serializer_class = LocationSerializer
+    input_serializer_classes = {"update": LocationUpdateSerializer, "partial_update": LocationUpdateSerializer}
     filterset_class = LocationFilter
     ordering_fields = ["code", "site", "building", "room"]
     ordering = ["site", "building", "room"]
@@ -40,14 +44,20 @@ class LocationViewSet(CreateRecordMixin, RegisterViewSet):
         with service_errors(serializer):
             return eyewear_services.location_create(by=self.person, **serializer.validated_data)
 
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Location:
+        with service_errors(serializer):
+            return eyewear_services.location_update(location=serializer.instance, by=self.person,
+                                                    **serializer.validated_data)
+
 
 @retirable(EyewearSerializer)
-class EyewearViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
+class EyewearViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
     """Protective eyewear with its marked protection per wavelength band."""
 
     policy = permissions.EYEWEAR
     serializer_class = EyewearSerializer
-    input_serializer_classes = {"inspect": EyewearInspectionSerializer, "set_markings": EyewearMarkingsSerializer}
+    input_serializer_classes = {"update": EyewearUpdateSerializer, "partial_update": EyewearUpdateSerializer,
+                                "inspect": EyewearInspectionSerializer, "set_markings": EyewearMarkingsSerializer}
     filterset_class = EyewearFilter
     ordering_fields = ["inventory_tag", "last_inspected_on"]
     ordering = ["inventory_tag"]
@@ -59,6 +69,11 @@ class EyewearViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet):
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Eyewear:
         with service_errors(serializer):
             return eyewear_services.eyewear_create(by=self.person, **serializer.validated_data)
+
+    def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Eyewear:
+        with service_errors(serializer):
+            return eyewear_services.eyewear_update(eyewear=serializer.instance, by=self.person,
+                                                   **serializer.validated_data)
 
     @extend_schema(request=EyewearInspectionSerializer, responses=EyewearSerializer,
                    summary="Record an inspection of the item and its condition")

@@ -37,6 +37,14 @@ class FindingSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
         return str(finding.owner)
 
 
+class FindingUpdateSerializer(FindingSerializer):
+    """The follow-up of an open finding; the closing evidence goes through the close action."""
+
+    class Meta(FindingSerializer.Meta):
+        read_only_fields = [name for name in FindingSerializer.Meta.fields
+                            if name not in {"corrective_action", "owner", "due_on"}]
+
+
 class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     checklist = ChecklistItemSerializer(many=True, read_only=True)
     findings = FindingSerializer(many=True, read_only=True)
@@ -53,6 +61,16 @@ class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
                   "retired_at", "retirement_reason", "created_at", "updated_at"]
         read_only_fields = ["conducted_on", "status", "summary", "signed_off_by", "signed_off_at", "retired_at",
                             "retirement_reason", "created_at", "updated_at"]
+
+
+class AuditUpdateSerializer(AuditSerializer):
+    """The plan of an audit; its checklist is set when planning and answered item by item."""
+
+    questions = None
+
+    class Meta(AuditSerializer.Meta):
+        fields = [name for name in AuditSerializer.Meta.fields if name != "questions"]
+        read_only_fields = [*AuditSerializer.Meta.read_only_fields, "reference"]
 
 
 class AuditStartSerializer(serializers.Serializer):  # type: ignore[type-arg]
@@ -99,6 +117,13 @@ class IncidentSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
                   "created_at", "updated_at"]
         read_only_fields = ["reported_by", "follow_up", "status", "closed_at", "retired_at", "retirement_reason",
                             "created_at", "updated_at"]
+
+
+class IncidentUpdateSerializer(IncidentSerializer):
+    """The account of an open incident; the reference is its identity."""
+
+    class Meta(IncidentSerializer.Meta):
+        read_only_fields = [*IncidentSerializer.Meta.read_only_fields, "reference"]
 
 
 class IncidentCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]

@@ -1,6 +1,8 @@
 """People, their training, their authorizations, and the SOPs they acknowledge."""
 from __future__ import annotations
 
+from typing import Any
+
 from rest_framework import serializers
 
 from registry.models import SOP, Authorization, CourseKind, Laser, Person, TrainingRecord
@@ -27,6 +29,15 @@ class PersonSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
         return None if person.research_group is None else person.research_group.name
 
 
+class PersonUpdateSerializer(PersonSerializer):
+    """The LSO changes a person's role, research group and supervisor; the account's
+    name and email belong to the sign-in system."""
+
+    class Meta(PersonSerializer.Meta):
+        read_only_fields = [name for name in PersonSerializer.Meta.fields
+                            if name not in {"role", "research_group", "supervisor"}]
+
+
 class TrainingRecordSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     person_name = serializers.SerializerMethodField()
     course = serializers.ChoiceField(choices=CourseKind.choices)
@@ -46,6 +57,22 @@ class TrainingRecordSerializer(serializers.ModelSerializer):  # type: ignore[typ
             raise serializers.ValidationError({"valid_until": "must not be before completed_on."})
         if attrs.get("course") == CourseKind.EQUIPMENT and attrs.get("laser") is None:
             raise serializers.ValidationError({"laser": "equipment-specific training names its laser."})
+        return attrs
+
+
+class TrainingRecordUpdateSerializer(TrainingRecordSerializer):
+    """What a training portal corrects; whose training it is stays as recorded."""
+
+    class Meta(TrainingRecordSerializer.Meta):
+        read_only_fields = [*TrainingRecordSerializer.Meta.read_only_fields, "person", "laser", "title",
+                            "verified_by"]
+
+    def validate(self, attrs: dict[str, Any]) -> dict[str, Any]:
+        # A PATCH of one date is checked against the other one as stored.
+        record: TrainingRecord = self.instance  # type: ignore[assignment]
+        stored = {"course": record.course, "laser": record.laser, "completed_on": record.completed_on,
+                  "valid_until": record.valid_until}
+        super().validate({**stored, **attrs})
         return attrs
 
 
@@ -100,6 +127,20 @@ class SOPSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
                   "review_due", "retired_at", "retirement_reason", "created_at", "updated_at"]
         read_only_fields = ["version", "status", "approved_on", "approved_by", "review_due", "retired_at",
                             "retirement_reason", "created_at", "updated_at"]
+
+
+class SOPUpdateSerializer(SOPSerializer):
+    """A draft's metadata; the laser stays, the summary and status change with a new version."""
+
+    laser = serializers.PrimaryKeyRelatedField(read_only=True)
+    # A replacement document, not none: the draft's record of its text is kept.
+    document = serializers.FileField(required=False, help_text="A replacement document (multipart/form-data).")
+    version = serializers.IntegerField(min_value=1, required=False,
+                                       help_text="The draft's version number (unique per laser).")
+
+    class Meta(SOPSerializer.Meta):
+        read_only_fields = ["status", "summary", "approved_on", "approved_by", "retired_at", "retirement_reason",
+                            "created_at", "updated_at"]
 
 
 class SOPApprovalSerializer(serializers.Serializer):  # type: ignore[type-arg]

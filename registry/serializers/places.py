@@ -23,6 +23,13 @@ class LocationSerializer(QuantitySerializerMixin, serializers.ModelSerializer): 
         read_only_fields = ["created_at", "updated_at"]
 
 
+class LocationUpdateSerializer(LocationSerializer):
+    """The code is the room's identity in other systems: fixed once created."""
+
+    class Meta(LocationSerializer.Meta):
+        read_only_fields = [*LocationSerializer.Meta.read_only_fields, "code"]
+
+
 class EyewearMarkingSerializer(QuantitySerializerMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     wavelength_min = QuantityField(source="wavelength_min_m", unit="m", minimum=MIN_WAVELENGTH_M,
                                    maximum=MAX_WAVELENGTH_M, example="190 nm",
@@ -60,6 +67,17 @@ class EyewearSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
 
     def get_location_label(self, eyewear: Eyewear) -> str:
         return str(eyewear.location)
+
+
+class EyewearUpdateSerializer(EyewearSerializer):
+    """Markings change through their own action, condition through inspections; the
+    inventory tag is the item's identity on its label."""
+
+    markings = EyewearMarkingSerializer(many=True, read_only=True)
+
+    class Meta(EyewearSerializer.Meta):
+        read_only_fields = [*EyewearSerializer.Meta.read_only_fields, "inventory_tag", "condition",
+                            "last_inspected_on"]
 
 
 class EyewearMarkingsSerializer(serializers.Serializer):  # type: ignore[type-arg]

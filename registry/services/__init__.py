@@ -10,8 +10,10 @@ from registry.services.audits import (
     audit_plan,
     audit_sign_off,
     audit_start,
+    audit_update,
     finding_close,
     finding_raise,
+    finding_update,
 )
 from registry.services.authorizations import (
     authorization_approve,
@@ -20,9 +22,16 @@ from registry.services.authorizations import (
     authorization_revoke,
     authorization_withdraw,
 )
-from registry.services.errors import PrerequisiteError, TransitionError
-from registry.services.eyewear import eyewear_create, eyewear_inspect, eyewear_set_markings, location_create
-from registry.services.incidents import incident_close, incident_investigate, incident_report
+from registry.services.errors import PrerequisiteError, StateError, TransitionError
+from registry.services.eyewear import (
+    eyewear_create,
+    eyewear_inspect,
+    eyewear_set_markings,
+    eyewear_update,
+    location_create,
+    location_update,
+)
+from registry.services.incidents import incident_close, incident_investigate, incident_report, incident_update
 from registry.services.lasers import (
     emission_create,
     emission_update,
@@ -43,16 +52,18 @@ from registry.services.people import (
     role_groups_ensure,
 )
 from registry.services.retirement import record_retire
-from registry.services.sops import sop_acknowledge, sop_approve, sop_create
-from registry.services.training import training_record
+from registry.services.sops import sop_acknowledge, sop_approve, sop_create, sop_update
+from registry.services.training import training_record, training_record_update
 
 __all__ = [
-    "audit_answer", "audit_plan", "audit_sign_off", "audit_start", "finding_close", "finding_raise",
+    "audit_answer", "audit_plan", "audit_sign_off", "audit_start", "audit_update", "finding_close", "finding_raise",
+    "finding_update",
     "authorization_approve", "authorization_refuse", "authorization_request", "authorization_revoke",
-    "authorization_withdraw", "PrerequisiteError", "TransitionError", "eyewear_create", "eyewear_inspect",
-    "eyewear_set_markings", "location_create", "incident_close", "incident_investigate", "incident_report",
+    "authorization_withdraw", "PrerequisiteError", "StateError", "TransitionError", "eyewear_create",
+    "eyewear_inspect", "eyewear_set_markings", "eyewear_update", "location_create", "location_update",
+    "incident_close", "incident_investigate", "incident_report", "incident_update",
     "emission_create", "emission_update", "laser_approve", "laser_register", "laser_retire", "laser_return",
     "laser_set_status", "laser_submit", "laser_update", "person_create", "person_sync_account", "person_set_role", "person_update",
     "research_group_create", "role_groups_ensure", "record_retire", "sop_acknowledge", "sop_approve",
-    "sop_create", "training_record",
+    "sop_create", "sop_update", "training_record", "training_record_update",
 ]

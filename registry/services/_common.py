@@ -1,8 +1,8 @@
 """Helpers every service module uses: validated saves, transitions and role checks."""
 from __future__ import annotations
 
-from collections.abc import Mapping
-from typing import TypeVar
+from collections.abc import Collection, Mapping
+from typing import Any, TypeVar
 
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.db import models
@@ -10,7 +10,7 @@ from django.db import models
 from hazards.errors import InputError
 from hazards.units import parse_quantity
 from registry.models import Person, Role
-from registry.services.errors import TransitionError
+from registry.services.errors import StateError, TransitionError
 
 ModelT = TypeVar("ModelT", bound=models.Model)
 
@@ -55,3 +55,18 @@ def quantity(value: object, *, field: str, unit: str, **limits: float | bool | N
         return parse_quantity(value, field=field, unit=unit, **limits)  # type: ignore[arg-type]
     except InputError as error:
         raise ValidationError({field: error.message}) from None
+
+
+def apply_changes(record: models.Model, changes: Mapping[str, Any], *, editable: Collection[str], what: str) -> None:
+    """Set ``changes`` on ``record`` (not saved), refusing any field outside ``editable``.
+
+    Status fields are never editable: status changes go through the workflow services.
+    A retired compliance record keeps what it said when it was retired.
+    """
+    refused = sorted(set(changes) - set(editable))
+    if refused:
+        raise ValidationError({name: f"{name} is not a field of {what} that can be changed here." for name in refused})
+    if getattr(record, "retired_at", None) is not None:
+        raise StateError(field="retired_at", message=f"{record} is retired; a retired record is not changed.")
+    for name, value in changes.items():
+        setattr(record, name, value)

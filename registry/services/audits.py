@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import datetime
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 from django.core.exceptions import ValidationError
 from django.db import transaction
@@ -20,7 +21,14 @@ from registry.models import (
     Person,
     Role,
 )
-from registry.services._common import require_role, require_text, require_transition, validated_save
+from registry.services._common import (
+    apply_changes,
+    require_role,
+    require_text,
+    require_transition,
+    validated_save,
+)
+from registry.services.errors import StateError
 
 AUDIT_TRANSITIONS: dict[str, frozenset[str]] = {
     AuditStatus.PLANNED: frozenset({AuditStatus.IN_PROGRESS}),
@@ -32,6 +40,14 @@ FINDING_TRANSITIONS: dict[str, frozenset[str]] = {
     FindingStatus.OPEN: frozenset({FindingStatus.CLOSED}),
     FindingStatus.CLOSED: frozenset(),
 }
+
+# The plan of an audit; the reference is its identity, the checklist is answered item by
+# item, and the outcome (summary, sign-off) belongs to audit_sign_off.
+AUDIT_EDITABLE_FIELDS = frozenset({"scope", "location", "lasers", "site", "planned_on", "auditor"})
+
+# The follow-up of a finding; what was found stays as raised, and the closing evidence
+# belongs to finding_close.
+FINDING_EDITABLE_FIELDS = frozenset({"corrective_action", "owner", "due_on"})
 
 
 @transaction.atomic
@@ -128,3 +144,28 @@ def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
     audit.signed_off_by = by
     audit.signed_off_at = at or timezone.now()
     return validated_save(audit, by=by)
+
+
+@transaction.atomic
+def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
+    """Change an audit's plan (AUDIT_EDITABLE_FIELDS) while it is planned or in progress."""
+    require_role(by, Role.LSO, action="change an audit's plan")
+    if audit.status == AuditStatus.SIGNED_OFF:
+        raise StateError(field="status", message=f"{audit.reference} is signed off; its plan cannot change.")
+    lasers = changes.pop("lasers", None)
+    apply_changes(audit, changes, editable=AUDIT_EDITABLE_FIELDS, what="an audit")
+    validated_save(audit, by=by)
+    if lasers is not None:
+        audit.lasers.set(list(lasers))
+    return audit
+
+
+@transaction.atomic
+def finding_update(*, finding: Finding, by: Person, **changes: Any) -> Finding:
+    """Change a finding's follow-up (FINDING_EDITABLE_FIELDS) while it is open."""
+    require_role(by, Role.LSO, action="change a finding")
+    if finding.status != FindingStatus.OPEN:
+        raise StateError(field="status", message=f"{finding} is {finding.get_status_display()}; "
+                                                 "its follow-up cannot change.")
+    apply_changes(finding, changes, editable=FINDING_EDITABLE_FIELDS, what="a finding")
+    return validated_save(finding, by=by)

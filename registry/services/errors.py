@@ -30,3 +30,10 @@ class PrerequisiteError(ValidationError):
     def __init__(self, *, field: str, missing: list[str]) -> None:
         self.missing = missing
         super().__init__({field: [f"Missing prerequisite: {item}" for item in missing]})
+
+
+class StateError(ValidationError):
+    """A change the record's current state does not allow (an approved SOP, a closed finding)."""
+
+    def __init__(self, *, field: str, message: str) -> None:
+        super().__init__({field: message})

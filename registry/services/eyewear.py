@@ -8,8 +8,8 @@ from typing import Any, TypedDict
 from django.db import transaction
 from django.utils import timezone
 
-from registry.models import Eyewear, EyewearMarking, Location, Person
-from registry.services._common import quantity, validated_save
+from registry.models import Eyewear, EyewearMarking, Location, Person, Role
+from registry.services._common import apply_changes, quantity, require_role, validated_save
 
 
 class MarkingInput(TypedDict, total=False):
@@ -31,6 +31,15 @@ def _marking(eyewear: Eyewear, given: MarkingInput) -> EyewearMarking:
         en207_conditions=given.get("en207_conditions", ""),
         en207_scale=given.get("en207_scale"),
     )
+
+
+# Markings change through eyewear_set_markings, condition and inspection date through
+# eyewear_inspect; the inventory tag is the item's identity on its label.
+EYEWEAR_EDITABLE_FIELDS = frozenset({"manufacturer", "model_name", "description", "location", "quantity"})
+
+# The code is the room's identity in other systems (as a laser's asset tag).
+LOCATION_EDITABLE_FIELDS = frozenset({"site", "building", "room", "name", "is_controlled_area", "interlock",
+                                      "has_warning_light", "sign_posted_on", "longest_dimension_m"})
 
 
 @transaction.atomic
@@ -69,3 +78,22 @@ def location_create(*, code: str, site: str, building: str, room: str, by: Perso
         fields["longest_dimension_m"] = quantity(fields["longest_dimension_m"], field="longest_dimension_m", unit="m",
                                                  minimum=0.0, inclusive_minimum=False)
     return validated_save(Location(code=code, site=site, building=building, room=room, **fields), by=by)
+
+
+@transaction.atomic
+def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
+    """Correct an item's description or where it is kept (EYEWEAR_EDITABLE_FIELDS)."""
+    require_role(by, Role.LSO, action="change an eyewear record")
+    apply_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item")
+    return validated_save(eyewear, by=by)
+
+
+@transaction.atomic
+def location_update(*, location: Location, by: Person, **changes: Any) -> Location:
+    """Correct a room's details (LOCATION_EDITABLE_FIELDS); longest_dimension_m takes units."""
+    require_role(by, Role.LSO, action="change a location")
+    if "longest_dimension_m" in changes:
+        changes["longest_dimension_m"] = quantity(changes["longest_dimension_m"], field="longest_dimension_m",
+                                                  unit="m", minimum=0.0, inclusive_minimum=False)
+    apply_changes(location, changes, editable=LOCATION_EDITABLE_FIELDS, what="a location")
+    return validated_save(location, by=by)

@@ -3,18 +3,24 @@ from __future__ import annotations
 
 import datetime
 from collections.abc import Iterable
+from typing import Any
 
 from django.db import transaction
 from django.utils import timezone
 
 from registry.models import Incident, IncidentStatus, Laser, Location, Person, Role
-from registry.services._common import require_role, require_text, require_transition, validated_save
+from registry.services._common import apply_changes, require_role, require_text, require_transition, validated_save
+from registry.services.errors import StateError
 
 INCIDENT_TRANSITIONS: dict[str, frozenset[str]] = {
     IncidentStatus.REPORTED: frozenset({IncidentStatus.INVESTIGATING, IncidentStatus.CLOSED}),
     IncidentStatus.INVESTIGATING: frozenset({IncidentStatus.CLOSED}),
     IncidentStatus.CLOSED: frozenset(),
 }
+
+# The account of what happened; the reference is its identity, the reporter stays who
+# reported it, and the follow-up belongs to incident_close.
+INCIDENT_EDITABLE_FIELDS = frozenset({"kind", "occurred_at", "laser", "location", "people_involved", "description"})
 
 
 @transaction.atomic
@@ -56,3 +62,20 @@ def incident_close(*, incident: Incident, by: Person, follow_up: str,
     incident.status = IncidentStatus.CLOSED
     incident.closed_at = at or timezone.now()
     return validated_save(incident, by=by)
+
+
+@transaction.atomic
+def incident_update(*, incident: Incident, by: Person, **changes: Any) -> Incident:
+    """Correct the account of an incident (INCIDENT_EDITABLE_FIELDS) while it is open.
+
+    Who may (the LSO, or the reporter) is the API policy's decision; the service refuses
+    any change once the incident is closed.
+    """
+    if incident.status == IncidentStatus.CLOSED:
+        raise StateError(field="status", message=f"{incident.reference} is closed; its account cannot change.")
+    people_involved = changes.pop("people_involved", None)
+    apply_changes(incident, changes, editable=INCIDENT_EDITABLE_FIELDS, what="an incident")
+    validated_save(incident, by=by)
+    if people_involved is not None:
+        incident.people_involved.set(list(people_involved))
+    return incident

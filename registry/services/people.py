@@ -8,10 +8,13 @@ from __future__ import annotations
 
 from django.contrib.auth import get_user_model
 from django.contrib.auth.models import AbstractUser, Group, Permission
+from django.core.exceptions import ValidationError
+from typing import Any
+
 from django.db import transaction
 
 from registry.models import Person, ResearchGroup, Role
-from registry.services._common import require_role, validated_save
+from registry.services._common import apply_changes, require_role, validated_save
 
 ROLE_GROUP_NAMES: dict[str, str] = {
     Role.LSO: "Laser safety officers",
@@ -30,6 +33,9 @@ ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
     Role.USER: (),
 }
 STAFF_ROLES = frozenset({Role.LSO, Role.INSPECTOR})
+
+# The account (username, name, email) belongs to Django's user model, not to Person.
+PERSON_EDITABLE_FIELDS = frozenset({"role", "research_group", "supervisor", "phone"})
 
 
 def role_groups_ensure() -> dict[str, Group]:
@@ -101,13 +107,17 @@ def person_set_role(*, person: Person, role: str, by: Person) -> Person:
 
 
 @transaction.atomic
-def person_update(*, person: Person, by: Person | None, research_group: ResearchGroup | None = None,
-                  supervisor: Person | None = None, phone: str | None = None) -> Person:
-    person.research_group = research_group
-    person.supervisor = supervisor
-    if phone is not None:
-        person.phone = phone
-    return validated_save(person, by=by)
+def person_update(*, person: Person, by: Person | None, **changes: Any) -> Person:
+    """Change the given PERSON_EDITABLE_FIELDS only; a new role goes through person_set_role
+    (LSO only), which also moves the account to the role's group."""
+    role = changes.pop("role", None)
+    apply_changes(person, changes, editable=PERSON_EDITABLE_FIELDS - {"role"}, what="a person")
+    if role is None or role == person.role:
+        return validated_save(person, by=by)
+    if by is None:
+        raise ValidationError({"role": "A role change needs the laser safety officer who makes it."})
+    # person_set_role saves the other changes with the role, as one history entry.
+    return person_set_role(person=person, role=role, by=by)
 
 
 @transaction.atomic

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import datetime
+from typing import Any
 
 from django.core.exceptions import ValidationError
 from django.core.files.base import File
@@ -10,13 +11,17 @@ from django.db.models import Max
 from django.utils import timezone
 
 from registry.models import SOP, Laser, Person, Role, SOPAcknowledgement, SOPStatus
-from registry.services._common import require_role, require_transition, validated_save
+from registry.services._common import apply_changes, require_role, require_transition, validated_save
+from registry.services.errors import StateError
 
 SOP_TRANSITIONS: dict[str, frozenset[str]] = {
     SOPStatus.DRAFT: frozenset({SOPStatus.APPROVED}),
     SOPStatus.APPROVED: frozenset({SOPStatus.SUPERSEDED}),
     SOPStatus.SUPERSEDED: frozenset(),
 }
+
+# A draft's metadata; once approved, an SOP's content is what people acknowledged.
+SOP_EDITABLE_FIELDS = frozenset({"title", "version", "review_due", "document"})
 
 
 @transaction.atomic
@@ -60,3 +65,18 @@ def sop_acknowledge(*, sop: SOP, person: Person, at: datetime.datetime | None = 
         return existing
     acknowledgement = SOPAcknowledgement(sop=sop, person=person, acknowledged_at=at or timezone.now())
     return validated_save(acknowledgement, by=person)
+
+
+@transaction.atomic
+def sop_update(*, sop: SOP, by: Person, **changes: Any) -> SOP:
+    """Correct a draft's metadata (SOP_EDITABLE_FIELDS).
+
+    An approved or superseded version is refused: people acknowledged that text, so a
+    change is a new draft version, approved in its turn.
+    """
+    if sop.status != SOPStatus.DRAFT:
+        raise StateError(field="status", message=(
+            f"{sop} is {sop.get_status_display()}; its content cannot change. Upload a new draft version "
+            "and have it approved instead."))
+    apply_changes(sop, changes, editable=SOP_EDITABLE_FIELDS, what="an SOP")
+    return validated_save(sop, by=by)

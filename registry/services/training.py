@@ -2,11 +2,16 @@
 from __future__ import annotations
 
 import datetime
+from typing import Any
 
 from django.db import transaction
 
-from registry.models import Laser, Person, TrainingRecord
-from registry.services._common import validated_save
+from registry.models import Laser, Person, Role, TrainingRecord
+from registry.services._common import apply_changes, require_role, validated_save
+
+# What a training portal corrects; whose training it is and which laser it covers stay
+# as recorded (a different person's training is a new record).
+TRAINING_EDITABLE_FIELDS = frozenset({"course", "completed_on", "valid_until", "evidence"})
 
 
 @transaction.atomic
@@ -28,3 +33,11 @@ def training_record(
         title=title, evidence=evidence, verified_by=verified_by,
     )
     return validated_save(record, by=by)
+
+
+@transaction.atomic
+def training_record_update(*, training_record: TrainingRecord, by: Person, **changes: Any) -> TrainingRecord:
+    """Correct a training record (TRAINING_EDITABLE_FIELDS); the dates are checked together."""
+    require_role(by, Role.LSO, action="correct a training record")
+    apply_changes(training_record, changes, editable=TRAINING_EDITABLE_FIELDS, what="a training record")
+    return validated_save(training_record, by=by)

@@ -49,6 +49,8 @@ LSO_CREATE = _s(401, 201, 403, 403, 403, 403)
 OWNER_DETAIL = _s(401, 200, 200, 200, 404, 403)  # visible to the owner only among researchers
 OWNER_HISTORY = _s(401, 200, 200, 200, 403, 403)
 OWNER_WRITE = _s(401, 200, 403, 200, 403, 403)
+# The reporter may edit; another researcher cannot see the incident at all.
+REPORTER_WRITE = _s(401, 200, 403, 200, 404, 403)
 
 V = "/api/v1"
 laser = lambda w: w.laser.pk  # noqa: E731
@@ -62,6 +64,11 @@ ROWS: dict[str, Row] = {
     "location create": Row("post", f"{V}/locations/", None, lambda w: {
         "code": "tst-102", "site": "Test Site", "building": "Alder Hall", "room": "102",
         "longest_dimension": "4.5 m"}, LSO_CREATE),
+    "location edit": Row("patch", f"{V}/locations/{{id}}/", lambda w: w.room.pk, lambda w: {
+        "longest_dimension": "7.5 m", "has_warning_light": True}, LSO_WRITE, needs_if_match=True),
+    "location replace": Row("put", f"{V}/locations/{{id}}/", lambda w: w.room.pk, lambda w: {
+        "site": "Test Site", "building": "Alder Hall", "room": "101A", "is_controlled_area": True},
+        LSO_WRITE, needs_if_match=True),
     # Lasers and their workflow
     "lasers list": Row("get", f"{V}/lasers/", None, None, READERS),
     "laser detail": Row("get", f"{V}/lasers/{{id}}/", laser, None, READERS),
@@ -72,7 +79,7 @@ ROWS: dict[str, Row] = {
     "laser edit": Row("patch", f"{V}/lasers/{{id}}/", laser, lambda w: {"description": "Moved to table 2."},
                       OWNER_WRITE, needs_if_match=True),
     "laser replace": Row("put", f"{V}/lasers/{{id}}/", laser, lambda w: {
-        "asset_tag": w.laser.asset_tag, "laser_type": "solid_state", "labelled_class": "4", "owner": w.owner.pk,
+        "laser_type": "solid_state", "labelled_class": "4", "owner": w.owner.pk,
         "location": w.room.pk, "description": "Re-described."}, OWNER_WRITE, needs_if_match=True),
     "laser submit": Row("post", f"{V}/lasers/{{id}}/submit/", lambda w: w.returned_laser.pk,
                         lambda w: {"note": "Divergence added."}, OWNER_WRITE),
@@ -106,6 +113,11 @@ ROWS: dict[str, Row] = {
     "person detail (the user)": Row("get", f"{V}/people/{{id}}/", lambda w: w.user.pk, None,
                                     _s(401, 200, 200, 200, 404, 200)),
     "person history": Row("get", f"{V}/people/{{id}}/history/", lambda w: w.user.pk, None, LSO_INSPECTOR),
+    "person edit": Row("patch", f"{V}/people/{{id}}/", lambda w: w.user.pk, lambda w: {"role": "researcher"},
+                       LSO_WRITE, needs_if_match=True),
+    "person replace": Row("put", f"{V}/people/{{id}}/", lambda w: w.user.pk, lambda w: {
+        "role": "user", "research_group": w.outsider.research_group_id, "supervisor": w.outsider.pk},
+        LSO_WRITE, needs_if_match=True),
     # Training
     "training list": Row("get", f"{V}/training-records/", None, None, EVERYONE),
     "training detail": Row("get", f"{V}/training-records/{{id}}/", lambda w: w.training.pk, None,
@@ -117,6 +129,11 @@ ROWS: dict[str, Row] = {
     "training record": Row("post", f"{V}/training-records/", None, lambda w: {
         "person": w.owner.pk, "course": "refresher", "completed_on": "2026-11-02", "valid_until": "2028-11-02",
         "evidence": "Attendance list R-17"}, LSO_CREATE),
+    "training edit": Row("patch", f"{V}/training-records/{{id}}/", lambda w: w.training.pk,
+                         lambda w: {"evidence": "Certificate GS-2291"}, LSO_WRITE, needs_if_match=True),
+    "training replace": Row("put", f"{V}/training-records/{{id}}/", lambda w: w.training.pk, lambda w: {
+        "course": "refresher", "completed_on": "2026-10-01", "valid_until": "2028-10-01",
+        "evidence": "Portal import 2026-10"}, LSO_WRITE, needs_if_match=True),
     # Authorizations
     "authorizations list": Row("get", f"{V}/authorizations/", None, None, EVERYONE),
     "authorization detail": Row("get", f"{V}/authorizations/{{id}}/", lambda w: w.authorization.pk, None,
@@ -148,6 +165,12 @@ ROWS: dict[str, Row] = {
                       _s(401, 201, 403, 201, 400, 403)),
     "sop retire": Row("post", f"{V}/sops/{{id}}/retire/", lambda w: w.draft_sop.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
+    # The owner of the laser corrects their draft; the outsider's role may edit, not this SOP.
+    "sop edit": Row("patch", f"{V}/sops/{{id}}/", lambda w: w.draft_sop.pk, lambda w: {"review_due": "2027-06-30"},
+                    OWNER_WRITE, needs_if_match=True),
+    "sop replace": Row("put", f"{V}/sops/{{id}}/", lambda w: w.draft_sop.pk, lambda w: {
+        "title": "Operating the test laser, third draft", "version": 3, "review_due": "2027-06-30"},
+        OWNER_WRITE, needs_if_match=True),
     "sop approve": Row("post", f"{V}/sops/{{id}}/approve/", lambda w: w.draft_sop.pk, lambda w: {}, LSO_WRITE),
     "sop acknowledge": Row("post", f"{V}/sops/{{id}}/acknowledge/", lambda w: w.sop.pk, None,
                            _s(401, 201, 403, 201, 201, 201)),
@@ -161,6 +184,11 @@ ROWS: dict[str, Row] = {
              "en207_scale": 5}]}, LSO_CREATE),
     "eyewear retire": Row("post", f"{V}/eyewear/{{id}}/retire/", lambda w: w.eyewear.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
+    "eyewear edit": Row("patch", f"{V}/eyewear/{{id}}/", lambda w: w.eyewear.pk, lambda w: {"quantity": 3},
+                        LSO_WRITE, needs_if_match=True),
+    "eyewear replace": Row("put", f"{V}/eyewear/{{id}}/", lambda w: w.eyewear.pk, lambda w: {
+        "manufacturer": "Lumen Shield", "model_name": "LS-2", "description": "goggles for 532 nm, spare pair",
+        "location": w.room.pk, "quantity": 2}, LSO_WRITE, needs_if_match=True),
     "eyewear inspect": Row("post", f"{V}/eyewear/{{id}}/inspect/", lambda w: w.eyewear.pk,
                            lambda w: {"condition": "worn"}, LSO_WRITE),
     "eyewear markings": Row("post", f"{V}/eyewear/{{id}}/markings/", lambda w: w.eyewear.pk, lambda w: {
@@ -174,6 +202,11 @@ ROWS: dict[str, Row] = {
         "planned_on": "2027-01-15", "questions": ["Is the door sign posted?"]}, LSO_CREATE),
     "audit retire": Row("post", f"{V}/audits/{{id}}/retire/", lambda w: w.planned_audit.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
+    "audit edit": Row("patch", f"{V}/audits/{{id}}/", lambda w: w.planned_audit.pk,
+                      lambda w: {"planned_on": "2027-02-01", "lasers": [w.laser.pk]}, LSO_WRITE, needs_if_match=True),
+    "audit replace": Row("put", f"{V}/audits/{{id}}/", lambda w: w.running_audit.pk, lambda w: {
+        "scope": "site", "site": "Test Site", "planned_on": "2026-12-01", "auditor": w.lso.pk, "lasers": []},
+        LSO_WRITE, needs_if_match=True),
     "audit start": Row("post", f"{V}/audits/{{id}}/start/", lambda w: w.planned_audit.pk, lambda w: {}, LSO_WRITE),
     "audit answer": Row("post", f"{V}/audits/{{id}}/answer/", lambda w: w.running_audit.pk,
                         lambda w: {"position": 1, "answer": "no", "comment": "One dump missing."}, LSO_WRITE),
@@ -187,6 +220,11 @@ ROWS: dict[str, Row] = {
     # The finding's action owner closes it; the outsider cannot even see it.
     "finding retire": Row("post", f"{V}/findings/{{id}}/retire/", lambda w: w.finding.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
+    "finding edit": Row("patch", f"{V}/findings/{{id}}/", lambda w: w.finding.pk,
+                        lambda w: {"due_on": "2027-01-31"}, LSO_WRITE, needs_if_match=True),
+    "finding replace": Row("put", f"{V}/findings/{{id}}/", lambda w: w.finding.pk, lambda w: {
+        "corrective_action": "Fit a beam dump at the second mirror.", "owner": w.owner.pk, "due_on": "2027-01-31"},
+        LSO_WRITE, needs_if_match=True),
     "finding close": Row("post", f"{V}/findings/{{id}}/close/", lambda w: w.finding.pk,
                          lambda w: {"evidence": "Dump fitted, photo in the lab log p. 14."},
                          _s(401, 200, 403, 200, 404, 403)),
@@ -199,6 +237,13 @@ ROWS: dict[str, Row] = {
         "description": "Beam block slipped.", "laser": w.laser.pk}, _s(401, 201, 403, 201, 201, 403)),
     "incident retire": Row("post", f"{V}/incidents/{{id}}/retire/", lambda w: w.incident.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
+    "incident edit": Row("patch", f"{V}/incidents/{{id}}/", lambda w: w.incident.pk,
+                         lambda w: {"description": "A stray reflection from mirror M3 reached the door."},
+                         REPORTER_WRITE, needs_if_match=True),
+    "incident replace": Row("put", f"{V}/incidents/{{id}}/", lambda w: w.incident.pk, lambda w: {
+        "kind": "near_miss", "occurred_at": "2026-11-29T09:30:00Z", "description": "Reflection from M3.",
+        "laser": w.laser.pk, "location": w.room.pk, "people_involved": [w.user.pk]},
+        REPORTER_WRITE, needs_if_match=True),
     "incident investigate": Row("post", f"{V}/incidents/{{id}}/investigate/", lambda w: w.incident.pk, None,
                                 LSO_WRITE),
     "incident close": Row("post", f"{V}/incidents/{{id}}/close/", lambda w: w.investigated_incident.pk,
