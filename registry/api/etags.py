@@ -104,19 +104,25 @@ def refuse_unwritable_fields(serializer: BaseSerializer[Any], data: Any) -> None
     """400 naming every field of ``data`` the update cannot set.
 
     DRF drops read-only and unknown keys without a word, so a client sending ``status``
-    in a PATCH would believe it had changed the status; it is told instead.
+    in a PATCH would believe it had changed the status; it is told instead. A read-only
+    field sent with the value it already has is let through, so that a client may send
+    back the representation it read with its own changes made.
     """
     if not isinstance(serializer, Serializer) or not hasattr(data, "keys"):
         return
     fields = serializer.fields
+    current: dict[str, Any] | None = None
     errors: dict[str, list[str]] = {}
     for name in data.keys():
         field = fields.get(name)
         if field is None:
             errors[name] = ["This is not a field of this record."]
         elif field.read_only:
-            errors[name] = ["This field is read-only: an update cannot change it (a status changes through "
-                            "the record's workflow actions)."]
+            if current is None:
+                current = dict(serializer.to_representation(serializer.instance))
+            if data[name] != current.get(name):
+                errors[name] = ["This field is read-only: an update cannot change it (a status changes through "
+                                "the record's workflow actions)."]
     if errors:
         raise ValidationError(errors)
 

@@ -111,6 +111,20 @@ class FieldsAnUpdateCannotSetTests(UpdateTestCase):
         self.assertEqual(list(response.json()), ["status"])
         self.assertIn("read-only", response.json()["status"][0])
 
+    def test_the_representation_read_back_with_one_change_is_accepted(self) -> None:
+        client = self.world.client("lso")
+        url = f"{V}/locations/{self.world.room.pk}/"
+        read = client.get(url)
+        body = dict(read.json(), name="Optics bay, north half")
+        response = client.put(url, body, format="json", HTTP_IF_MATCH=read["ETag"])
+        self.assertEqual(response.status_code, 200, response.content[:400])
+        self.world.room.refresh_from_db()
+        self.assertEqual(self.world.room.name, "Optics bay, north half")
+        # The same body with a read-only field changed is refused, naming only that field.
+        body = dict(response.json(), code="tst-elsewhere")
+        refused = client.put(url, body, format="json", HTTP_IF_MATCH=response["ETag"])
+        self.assertEqual((refused.status_code, list(refused.json())), (400, ["code"]))
+
     def test_lasers_and_emissions_refuse_read_only_and_unknown_fields_too(self) -> None:
         laser_url = f"{V}/lasers/{self.world.laser.pk}/"
         response = self.assertRefusedUnchanged("lso", laser_url, {"status": "disposed", "description": "x"},
