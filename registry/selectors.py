@@ -33,9 +33,16 @@ from registry.models import (
 
 
 def laser_list() -> QuerySet[Laser]:
-    """Every laser with owner, group, location, emissions and their hazard results."""
+    """Every laser with owner, account, group, location, emissions and their hazard results.
+
+    Emissions come in wavelength order, each with its results by limit set. Their lasers
+    are not joined again: the prefetch links each emission to the laser it was loaded for.
+    Results are loaded without ``working`` (several kB of JSON each, shown only by the
+    working endpoint); reading it from these rows costs a query per result.
+    """
     return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
-        Prefetch("emissions", queryset=emission_list()),
+        "emissions",
+        Prefetch("emissions__hazard_results", queryset=HazardResult.objects.defer("working")),
     )
 
 
