@@ -35,14 +35,15 @@ from registry.models import (
 def laser_list() -> QuerySet[Laser]:
     """Every laser with owner, account, group, location, emissions and their hazard results.
 
-    Emissions come in wavelength order, each with its results by limit set. Their lasers
-    are not joined again: the prefetch links each emission to the laser it was loaded for.
-    Results are loaded without ``working`` (several kB of JSON each, shown only by the
-    working endpoint); reading it from these rows costs a query per result.
+    The emissions are the list ``laser.current_emissions`` (by wavelength): a prefetch into
+    ``laser.emissions.all()`` would build a queryset per laser. Each emission's results (by
+    limit set) are in ``emission.hazard_results.all()``, loaded without ``working`` (kB of
+    JSON each, shown only by the working endpoint; reading it here costs a query per result).
+    The emissions' lasers are not joined again: the prefetch links each to its laser.
     """
     return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
-        "emissions",
-        Prefetch("emissions__hazard_results", queryset=HazardResult.objects.defer("working")),
+        Prefetch("emissions", to_attr="current_emissions"),
+        Prefetch("current_emissions__hazard_results", queryset=HazardResult.objects.defer("working")),
     )
 
 

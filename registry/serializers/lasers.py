@@ -176,7 +176,7 @@ class LaserSerializer(ColumnReadMixin, serializers.ModelSerializer):  # type: ig
     location_label = serializers.SerializerMethodField()
     effective_class = serializers.CharField(read_only=True,
                                             help_text="The embedded class where given, else the labelled class.")
-    emissions = EmissionSerializer(many=True, read_only=True)
+    emissions = EmissionSerializer(many=True, read_only=True, source="current_emissions")
     history_url = serializers.SerializerMethodField()
 
     class Meta:
