@@ -123,7 +123,7 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
                                 example="0 rad", help_text="Apparent source size in rad; 0 for a point source.")
     fibre_na = serializers.FloatField(min_value=0, max_value=1, required=False, allow_null=True,
                                       help_text="Numerical aperture of a fibre delivery (dimensionless).")
-    hazard_results = HazardResultSerializer(many=True, read_only=True,
+    hazard_results = HazardResultSerializer(many=True, read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
 
     class Meta:

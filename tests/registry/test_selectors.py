@@ -16,7 +16,7 @@ def _touch_lasers() -> int:
         for laser in laser_list():
             _ = (laser.owner.user.username, laser.owner.research_group.name, laser.location.room)
             for emission in laser.current_emissions:
-                _ = [result.nohd_m for result in emission.hazard_results.all()]
+                _ = [result.nohd_m for result in emission.current_results]
     return len(queries)
 
 
