@@ -45,7 +45,7 @@ class ZoneOnceDateTimeField(serializers.DateTimeField):
     def bind(self, field_name: str, parent: Any) -> None:
         super().bind(field_name, parent)
         if not hasattr(self, "timezone"):
-            self.timezone = self.default_timezone()
+            self.timezone = self.default_timezone()  # type: ignore[assignment]  # None: naive, as in DRF
 
 
 class ColumnReadMixin:
