@@ -3,7 +3,6 @@ from __future__ import annotations
 
 from typing import Any
 
-from django.db.models import Prefetch
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
 from rest_framework import serializers
 from rest_framework.decorators import action
@@ -55,11 +54,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
     search_fields = ["asset_tag", "manufacturer", "model_name", "serial_number", "gain_medium"]
 
     def base_queryset(self) -> Any:
-        # Not selectors.laser_list(): its emission prefetch joins each emission's laser
-        # again, which the prefetch already links, and costs a quarter of a page's time.
-        return Laser.objects.select_related("owner__user", "location").prefetch_related(Prefetch(
-            "emissions", queryset=Emission.objects.order_by("wavelength_m", "id").prefetch_related(
-                Prefetch("hazard_results", queryset=HazardResult.objects.order_by("limits")))))
+        return selectors.laser_list()
 
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Laser:
         fields = dict(serializer.validated_data)

@@ -7,6 +7,7 @@ number and, beside it, a human-readable string (``<name>_text``).
 """
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Any
 
 from drf_spectacular.types import OpenApiTypes
@@ -68,7 +69,7 @@ class QuantityTextField(serializers.ReadOnlyField):
     def to_representation(self, value: float | None) -> str | None:
         if value is None:
             return None
-        return _readable(format_si(float(value), self.unit))
+        return _quantity_text(float(value), self.unit)
 
 
 class QuantitySerializerMixin:
@@ -88,6 +89,13 @@ class QuantitySerializerMixin:
                     help_text=f"{name} as text with a metric prefix, e.g. '{example}'.",
                 )
         return fields
+
+
+@lru_cache(maxsize=4096)
+def _quantity_text(value: float, unit: str) -> str:
+    # Registers repeat figures (the same limits, powers and wavelengths on many rows), and a
+    # page of lasers formats about a thousand of them.
+    return _readable(format_si(value, unit))
 
 
 def _readable(text: str) -> str:

@@ -18,7 +18,7 @@ from registry.models import (
     Person,
 )
 from registry.permissions import editable_lasers, person_of
-from registry.serializers.base import ScopedRelatedField, record_url
+from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, record_url
 from registry.serializers.fields import QuantityField, QuantitySerializerMixin
 
 # How far pulse energy x repetition rate may stray from the stated average power before the
@@ -30,7 +30,7 @@ HAZARD_CAUTION = ("Figures support, and never replace, the judgement of the lase
                   "local regulations.")
 
 
-class HazardResultSerializer(QuantitySerializerMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
+class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """The engine's figures for one emission under one limit set, as stored at ``computed_at``."""
 
     exposure_s = QuantityField(unit="s", read_only=True, help_text="Eye exposure duration the MPE assumes (s).")
@@ -92,7 +92,7 @@ class HazardWorkingSerializer(serializers.ModelSerializer):  # type: ignore[type
         return HAZARD_CAUTION
 
 
-class EmissionSerializer(QuantitySerializerMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
+class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """One line or mode of a laser. Physical fields: SI numbers or strings with units."""
 
     laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=editable_lasers,
@@ -123,7 +123,7 @@ class EmissionSerializer(QuantitySerializerMixin, serializers.ModelSerializer): 
                                 example="0 rad", help_text="Apparent source size in rad; 0 for a point source.")
     fibre_na = serializers.FloatField(min_value=0, max_value=1, required=False, allow_null=True,
                                       help_text="Numerical aperture of a fibre delivery (dimensionless).")
-    hazard_results = HazardResultSerializer(many=True, read_only=True,
+    hazard_results = HazardResultSerializer(many=True, read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
 
     class Meta:
@@ -166,7 +166,7 @@ class EmissionUpdateSerializer(EmissionSerializer):
     laser = serializers.PrimaryKeyRelatedField(read_only=True)
 
 
-class LaserSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+class LaserSerializer(ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """A laser with its emissions and their current hazard results."""
 
     owner = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(), required=False, allow_null=True,
@@ -176,7 +176,7 @@ class LaserSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     location_label = serializers.SerializerMethodField()
     effective_class = serializers.CharField(read_only=True,
                                             help_text="The embedded class where given, else the labelled class.")
-    emissions = EmissionSerializer(many=True, read_only=True)
+    emissions = EmissionSerializer(many=True, read_only=True, source="current_emissions")
     history_url = serializers.SerializerMethodField()
 
     class Meta:
