@@ -4,6 +4,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+from django.core.exceptions import ImproperlyConfigured
 from django.db import models
 from django.db.models import QuerySet
 from django.utils.functional import cached_property
@@ -46,6 +47,21 @@ class ZoneOnceDateTimeField(serializers.DateTimeField):
         super().bind(field_name, parent)
         if not hasattr(self, "timezone"):
             self.timezone = self.default_timezone()  # type: ignore[assignment]  # None: naive, as in DRF
+
+
+class SelectorListSerializer(serializers.ListSerializer):  # type: ignore[type-arg]
+    """A nested list read from the plain list a selector's ``Prefetch(to_attr=...)`` sets.
+
+    DRF skips a read-only field whose attribute is missing, so a row loaded without its
+    selector would lose the nested list from the JSON without a word. Here it fails loudly.
+    """
+
+    def get_attribute(self, instance: Any) -> Any:
+        if not hasattr(instance, self.source):
+            raise ImproperlyConfigured(
+                f"{type(instance).__name__} {instance.pk} has no {self.source!r}: load it through its selector "
+                "(registry.selectors), which prefetches that list.")
+        return super().get_attribute(instance)
 
 
 class ColumnReadMixin:

@@ -18,7 +18,7 @@ from registry.models import (
     Person,
 )
 from registry.permissions import editable_lasers, person_of
-from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, record_url
+from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, SelectorListSerializer, record_url
 from registry.serializers.fields import QuantityField, QuantitySerializerMixin
 
 # How far pulse energy x repetition rate may stray from the stated average power before the
@@ -123,7 +123,7 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
                                 example="0 rad", help_text="Apparent source size in rad; 0 for a point source.")
     fibre_na = serializers.FloatField(min_value=0, max_value=1, required=False, allow_null=True,
                                       help_text="Numerical aperture of a fibre delivery (dimensionless).")
-    hazard_results = HazardResultSerializer(many=True, read_only=True, source="current_results",
+    hazard_results = SelectorListSerializer(child=HazardResultSerializer(), read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
 
     class Meta:
@@ -176,7 +176,7 @@ class LaserSerializer(ColumnReadMixin, serializers.ModelSerializer):  # type: ig
     location_label = serializers.SerializerMethodField()
     effective_class = serializers.CharField(read_only=True,
                                             help_text="The embedded class where given, else the labelled class.")
-    emissions = EmissionSerializer(many=True, read_only=True, source="current_emissions")
+    emissions = SelectorListSerializer(child=EmissionSerializer(), read_only=True, source="current_emissions")
     history_url = serializers.SerializerMethodField()
 
     class Meta:

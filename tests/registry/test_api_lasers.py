@@ -1,11 +1,15 @@
 """Laser listings: embedded hazard results, the working behind them, filters, order and search."""
 from __future__ import annotations
 
-from django.test import TestCase
+from django.core.exceptions import ImproperlyConfigured
+from django.test import RequestFactory, TestCase
+from rest_framework.request import Request
 from rest_framework.test import APIClient
 
 from registry import services
 from registry.models import HazardResult, Laser, Person
+from registry.selectors import laser_list
+from registry.serializers.lasers import LaserSerializer
 
 
 def _laser(*, tag: str, owner: Person, room: object, by: Person, labelled_class: str, wavelength: str,
@@ -115,3 +119,17 @@ class PeopleScopeTests(TestCase):
     def test_a_user_sees_only_themselves_and_an_inspector_everyone(self) -> None:
         self.assertEqual(self._usernames(self.uma), {"uma"})
         self.assertEqual(self._usernames(self.ivo), {"rhea", "uma", "otto", "ivo"})
+
+
+class SelectorListsTests(TestCase):
+    def test_a_laser_loaded_without_its_selector_fails_loudly_instead_of_dropping_its_emissions(self) -> None:
+        lso = services.person_create(username="ada", role="lso")
+        room = services.location_create(code="a-1", site="S", building="Alder Hall", room="1", by=lso)
+        laser = _laser(tag="L-09", owner=lso, room=room, by=lso, labelled_class="4", wavelength="532 nm")
+        request = Request(RequestFactory().get("/api/v1/lasers/"))
+        request.user = lso.user
+        context = {"request": request}
+        loaded = laser_list().get(pk=laser.pk)
+        self.assertEqual(len(LaserSerializer(loaded, context=context).data["emissions"]), 1)
+        with self.assertRaisesMessage(ImproperlyConfigured, "load it through its selector"):
+            LaserSerializer(Laser.objects.get(pk=laser.pk), context=context).data
