@@ -203,8 +203,7 @@ def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None =
     """
     summary = RefreshSummary()
     for emission in emissions:
-        results = {result.limits: result for result in emission.hazard_results.all()}
-        if only_stale and _is_current(emission, results):
+        if only_stale and _is_current(emission, {result.limits: result for result in emission.hazard_results.all()}):
             continue
         try:
             with transaction.atomic():
