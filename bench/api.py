@@ -2,8 +2,9 @@
 
 Seeds 10,000 lasers (each with one emission and one stored hazard result, whose figures
 and working come from the engine) in a fresh SQLite database in a temporary directory, or
-in the database DATABASE_URL names (whose register tables are emptied first, so point it
-at a scratch database). Then requests pages of 100 in-process through the whole
+in the scratch database named by ``--scratch-database URL`` (emptied first: every table is
+flushed). DATABASE_URL from the environment is deliberately ignored, so that the benchmark
+can never empty the register a shell happens to point at. Then requests pages of 100 in-process through the whole
 middleware stack, token-authenticated as the LSO, and prints p50/p95 latency and the
 query count per request of
 
@@ -15,7 +16,7 @@ query count per request of
 - "bare laser rows": for scale, a bare view returning only 12 laser columns of the same
   100 rows (about a sixth of the JSON), from one ``values()`` query.
 
-Run from the project root: ``python bench/api.py [--requests 200]``.
+Run from the project root: ``python bench/api.py [--requests 200] [--scratch-database URL]``.
 """
 from __future__ import annotations
 
@@ -32,10 +33,10 @@ LASERS = 10_000
 PAGE_SIZE = 100
 
 
-def _setup_django(database_dir: Path) -> None:
+def _setup_django(database_url: str) -> None:
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
     os.environ.setdefault("DJANGO_SETTINGS_MODULE", "registry.settings")
-    os.environ.setdefault("DATABASE_URL", f"sqlite:///{database_dir / 'bench.sqlite3'}")
+    os.environ["DATABASE_URL"] = database_url
     os.environ.setdefault("ALLOWED_HOSTS", "testserver")
     import django
 
@@ -151,10 +152,12 @@ def _measure(call: Callable[[int], object], requests: int) -> tuple[float, float
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--requests", type=int, default=200, help="requests per endpoint (default 200)")
+    parser.add_argument("--scratch-database", metavar="URL",
+                        help="a database URL to seed instead of a temporary SQLite file; ALL ITS TABLES ARE EMPTIED")
     args = parser.parse_args()
 
     with tempfile.TemporaryDirectory() as directory:
-        _setup_django(Path(directory))
+        _setup_django(args.scratch_database or f"sqlite:///{Path(directory) / 'bench.sqlite3'}")
         from django.conf import settings
         from django.test import Client
         from django.test.utils import override_settings
