@@ -57,8 +57,11 @@ def quantity(value: object, *, field: str, unit: str, **limits: float | bool | N
         raise ValidationError({field: error.message}) from None
 
 
-def apply_changes(record: models.Model, changes: Mapping[str, Any], *, editable: Collection[str], what: str) -> None:
+def apply_changes(record: models.Model, changes: Mapping[str, Any], *, editable: Collection[str], what: str,
+                  many_to_many: Collection[str] = ()) -> None:
     """Set ``changes`` on ``record`` (not saved), refusing any field outside ``editable``.
+
+    Fields named in ``many_to_many`` are checked but not set: they need a saved record.
 
     Status fields are never editable: status changes go through the workflow services.
     A retired compliance record keeps what it said when it was retired.
@@ -69,4 +72,16 @@ def apply_changes(record: models.Model, changes: Mapping[str, Any], *, editable:
     if getattr(record, "retired_at", None) is not None:
         raise StateError(field="retired_at", message=f"{record} is retired; a retired record is not changed.")
     for name, value in changes.items():
-        setattr(record, name, value)
+        if name not in many_to_many:
+            setattr(record, name, value)
+
+
+def save_changes(record: ModelT, changes: Mapping[str, Any], *, editable: Collection[str], what: str,
+                 by: Person | None) -> ModelT:
+    """apply_changes and validated_save; many-to-many fields in ``changes`` are set after the save."""
+    many = {field.name for field in record._meta.many_to_many} & set(changes)
+    apply_changes(record, changes, editable=editable, what=what, many_to_many=many)
+    validated_save(record, by=by)
+    for name in many:
+        getattr(record, name).set(list(changes[name]))
+    return record

@@ -22,10 +22,10 @@ from registry.models import (
     Role,
 )
 from registry.services._common import (
-    apply_changes,
     require_role,
     require_text,
     require_transition,
+    save_changes,
     validated_save,
 )
 from registry.services.errors import StateError
@@ -152,12 +152,7 @@ def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
     require_role(by, Role.LSO, action="change an audit's plan")
     if audit.status == AuditStatus.SIGNED_OFF:
         raise StateError(field="status", message=f"{audit.reference} is signed off; its plan cannot change.")
-    lasers = changes.pop("lasers", None)
-    apply_changes(audit, changes, editable=AUDIT_EDITABLE_FIELDS, what="an audit")
-    validated_save(audit, by=by)
-    if lasers is not None:
-        audit.lasers.set(list(lasers))
-    return audit
+    return save_changes(audit, changes, editable=AUDIT_EDITABLE_FIELDS, what="an audit", by=by)
 
 
 @transaction.atomic
@@ -167,5 +162,4 @@ def finding_update(*, finding: Finding, by: Person, **changes: Any) -> Finding:
     if finding.status != FindingStatus.OPEN:
         raise StateError(field="status", message=f"{finding} is {finding.get_status_display()}; "
                                                  "its follow-up cannot change.")
-    apply_changes(finding, changes, editable=FINDING_EDITABLE_FIELDS, what="a finding")
-    return validated_save(finding, by=by)
+    return save_changes(finding, changes, editable=FINDING_EDITABLE_FIELDS, what="a finding", by=by)

@@ -9,7 +9,7 @@ from django.db import transaction
 from django.utils import timezone
 
 from registry.models import Eyewear, EyewearMarking, Location, Person, Role
-from registry.services._common import apply_changes, quantity, require_role, validated_save
+from registry.services._common import quantity, require_role, save_changes, validated_save
 
 
 class MarkingInput(TypedDict, total=False):
@@ -84,8 +84,7 @@ def location_create(*, code: str, site: str, building: str, room: str, by: Perso
 def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
     """Correct an item's description or where it is kept (EYEWEAR_EDITABLE_FIELDS)."""
     require_role(by, Role.LSO, action="change an eyewear record")
-    apply_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item")
-    return validated_save(eyewear, by=by)
+    return save_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item", by=by)
 
 
 @transaction.atomic
@@ -95,5 +94,4 @@ def location_update(*, location: Location, by: Person, **changes: Any) -> Locati
     if "longest_dimension_m" in changes:
         changes["longest_dimension_m"] = quantity(changes["longest_dimension_m"], field="longest_dimension_m",
                                                   unit="m", minimum=0.0, inclusive_minimum=False)
-    apply_changes(location, changes, editable=LOCATION_EDITABLE_FIELDS, what="a location")
-    return validated_save(location, by=by)
+    return save_changes(location, changes, editable=LOCATION_EDITABLE_FIELDS, what="a location", by=by)

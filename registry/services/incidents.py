@@ -9,7 +9,13 @@ from django.db import transaction
 from django.utils import timezone
 
 from registry.models import Incident, IncidentStatus, Laser, Location, Person, Role
-from registry.services._common import apply_changes, require_role, require_text, require_transition, validated_save
+from registry.services._common import (
+    require_role,
+    require_text,
+    require_transition,
+    save_changes,
+    validated_save,
+)
 from registry.services.errors import StateError
 
 INCIDENT_TRANSITIONS: dict[str, frozenset[str]] = {
@@ -73,9 +79,4 @@ def incident_update(*, incident: Incident, by: Person, **changes: Any) -> Incide
     """
     if incident.status == IncidentStatus.CLOSED:
         raise StateError(field="status", message=f"{incident.reference} is closed; its account cannot change.")
-    people_involved = changes.pop("people_involved", None)
-    apply_changes(incident, changes, editable=INCIDENT_EDITABLE_FIELDS, what="an incident")
-    validated_save(incident, by=by)
-    if people_involved is not None:
-        incident.people_involved.set(list(people_involved))
-    return incident
+    return save_changes(incident, changes, editable=INCIDENT_EDITABLE_FIELDS, what="an incident", by=by)

@@ -11,7 +11,7 @@ from django.db.models import Max
 from django.utils import timezone
 
 from registry.models import SOP, Laser, Person, Role, SOPAcknowledgement, SOPStatus
-from registry.services._common import apply_changes, require_role, require_transition, validated_save
+from registry.services._common import require_role, require_transition, save_changes, validated_save
 from registry.services.errors import StateError
 
 SOP_TRANSITIONS: dict[str, frozenset[str]] = {
@@ -78,5 +78,4 @@ def sop_update(*, sop: SOP, by: Person, **changes: Any) -> SOP:
         raise StateError(field="status", message=(
             f"{sop} is {sop.get_status_display()}; its content cannot change. Upload a new draft version "
             "and have it approved instead."))
-    apply_changes(sop, changes, editable=SOP_EDITABLE_FIELDS, what="an SOP")
-    return validated_save(sop, by=by)
+    return save_changes(sop, changes, editable=SOP_EDITABLE_FIELDS, what="an SOP", by=by)
