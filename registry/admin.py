@@ -240,8 +240,7 @@ class HazardResultAdmin(SimpleHistoryAdmin):
 
     @admin.display(description=_("required optical density"), ordering="od_required")
     def optical_density(self, result: HazardResult) -> str:
-        return hazard_figures.optical_density(
-            result.od_required, hazard_figures.exact_optical_density(result.working, result.od_required))
+        return hazard_figures.optical_density(result.od_required, result.od_exact)
 
     @admin.display(description=_("EN 207 marking"), ordering="en207_marking")
     def en207(self, result: HazardResult) -> str:

@@ -42,6 +42,9 @@ class HazardResult(TimestampedModel):
     diffuse_hazard_distance_m = models.FloatField(_("diffuse-reflection hazard distance (m)"), null=True, blank=True)
     skin_hazard_distance_m = models.FloatField(_("skin hazard distance (m)"), null=True, blank=True)
     od_required = models.FloatField(_("required optical density"), null=True, blank=True)
+    od_exact = models.FloatField(
+        _("optical density, exact"), null=True, blank=True,
+        help_text=_("log10(exposure at the limiting aperture / MPE) before rounding up; may be negative."))
     en207_marking = models.CharField(_("EN 207 marking"), max_length=100, blank=True,
                                      help_text=_("e.g. 'D LB5'; empty when no rating applies."))
     working = models.JSONField(_("working"), default=list, blank=True)

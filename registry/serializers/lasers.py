@@ -54,6 +54,8 @@ class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serialize
                                            help_text="Skin hazard distance (m).")
     od_required = serializers.FloatField(read_only=True, allow_null=True,
                                          help_text="Required optical density of eyewear (dimensionless, log10).")
+    od_exact = serializers.FloatField(read_only=True, allow_null=True,
+                                      help_text="Optical density before rounding up (dimensionless, log10).")
     en207_marking = serializers.CharField(read_only=True,
                                           help_text="EN 207-style marking (test condition letters and LB number).")
     working_url = serializers.SerializerMethodField(help_text="The steps, inputs and sources behind these figures.")
@@ -65,7 +67,7 @@ class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serialize
             "id", "emission", "limits", "exposure_s", "eye_mpe_J_m2", "eye_mpe_W_m2", "eye_mpe_per_pulse_J_m2",
             "pulse_rule", "skin_exposure_s",
             "skin_mpe_J_m2", "skin_mpe_W_m2", "nohd_m", "nohd_unbounded", "diffuse_hazard_distance_m",
-            "skin_hazard_distance_m", "od_required", "en207_marking", "warnings", "engine_version", "computed_at",
+            "skin_hazard_distance_m", "od_required", "od_exact", "en207_marking", "warnings", "engine_version", "computed_at",
             "working_url", "caution",
         ]
         read_only_fields = fields

@@ -110,6 +110,7 @@ class EmissionEvaluation:
     assessment: Assessment
     warnings: list[str]
     od_required: float
+    od_exact: float
 
 
 def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
@@ -138,7 +139,8 @@ def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
             f"OD {densest.od_required} at {format_si(densest.beam.wavelength_m, 'm')}; eyewear must cover "
             "the whole range."
         )
-    return EmissionEvaluation(assessment=worst, warnings=warnings, od_required=float(densest.od_required))
+    return EmissionEvaluation(assessment=worst, warnings=warnings, od_required=float(densest.od_required),
+                              od_exact=float(densest.od_exact))
 
 
 def _finite(value: object) -> float | None:
@@ -165,6 +167,7 @@ def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
         "diffuse_hazard_distance_m": _finite(assessment.diffuse.distance_m),
         "skin_hazard_distance_m": _finite(assessment.skin_distance.distance_m),
         "od_required": evaluation.od_required,
+        "od_exact": evaluation.od_exact,
         "en207_marking": " + ".join(assessment.en207.markings),
         "working": assessment.working.to_json(),
         "warnings": list(assessment.warnings) + evaluation.warnings,

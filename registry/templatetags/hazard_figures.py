@@ -110,17 +110,3 @@ def working_text(working: list[StepDict]) -> str:
     if not working:
         return _("no working stored")
     return working_steps(working).as_text()
-
-
-def exact_optical_density(working: list[StepDict], required: float | None) -> float | None:
-    """The unrounded OD from the working, when it is the one ``required`` was rounded up from.
-
-    For a tunable range the stored OD may come from another wavelength than the working;
-    then no exact value is claimed.
-    """
-    for step in working:
-        if step["what"] == "required optical density" and isinstance(step["value"], (int, float)):
-            rounded = step["inputs"].get("rounded_up")
-            if required is not None and isinstance(rounded, (int, float)) and float(rounded) == required:
-                return float(step["value"])
-    return None

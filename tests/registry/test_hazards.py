@@ -58,6 +58,7 @@ def test_the_stored_figures_are_the_engines_own(researcher: Person) -> None:
         assert stored.nohd_m == pytest.approx(expected.nohd.distance_m)
         assert stored.diffuse_hazard_distance_m == pytest.approx(expected.diffuse.distance_m)
         assert stored.od_required == expected.od_required
+        assert stored.od_exact == pytest.approx(expected.od_exact)
         assert stored.en207_marking == " + ".join(expected.en207.markings)
 
 
