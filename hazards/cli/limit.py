@@ -23,6 +23,7 @@ from hazards.limits import (
     exposure_limit,
     pulse_train_limit,
 )
+from hazards.limits.exposure import check_limits_and_tissue
 from hazards.limits.limit_set import TISSUES, load_limit_set
 from hazards.units import format_si, parse_quantity
 
@@ -42,13 +43,14 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
                         "for the wavelength (0.25 s visible, 10 s infrared, 30000 s ultraviolet)")
     parser.add_argument("--deliberate", action="store_true",
                         help="default to 30000 s of deliberate long viewing when --duration is not given")
-    parser.add_argument("--tissue", choices=TISSUES, default="eye", help="eye (default) or skin")
+    # No argparse choices: a wrong value gets the engine's one-line error naming the field.
+    parser.add_argument("--tissue", default="eye", help=f"{' or '.join(TISSUES)} (default eye)")
     parser.add_argument("--source-size", default="0", help='apparent source size alpha, e.g. "1.5mrad" '
                         "(default 0, a point source; bare numbers in rad)")
     parser.add_argument("--pulse-duration", help='pulse duration of a repetitively pulsed beam, e.g. "10ns"')
     parser.add_argument("--prf", help='pulse repetition frequency, e.g. "10Hz" (needs --pulse-duration)')
-    parser.add_argument("--limits", choices=LIMIT_SETS, default=DEFAULT_LIMITS,
-                        help=f"limit set (default {DEFAULT_LIMITS})")
+    parser.add_argument("--limits", default=DEFAULT_LIMITS,
+                        help=f"limit set: {', '.join(LIMIT_SETS)} (default {DEFAULT_LIMITS})")
     parser.add_argument("--json", action="store_true", help="print one JSON object instead of text")
     parser.add_argument("--batch", metavar="FILE.csv",
                         help="CSV with columns " + ", ".join(BATCH_COLUMNS) + " and optionally "
@@ -57,6 +59,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
 
 
 def run(args: argparse.Namespace) -> int:
+    limit_set = check_limits_and_tissue(args.limits, args.tissue)
     if args.batch is not None:
         if args.wavelength is not None:
             raise InputError("batch", "give either --batch or --wavelength, not both")
@@ -68,7 +71,6 @@ def run(args: argparse.Namespace) -> int:
     if (args.pulse_duration is None) != (args.prf is None):
         missing = "prf" if args.prf is None else "pulse_duration"
         raise InputError(missing, "--pulse-duration and --prf go together; give both for a pulse train")
-    limit_set = load_limit_set(args.limits)
     wavelength = parse_quantity(args.wavelength, field="wavelength", unit="m",
                                 minimum=limit_set.wavelength_range_m[0], maximum=limit_set.wavelength_range_m[1])
     if args.duration is None:

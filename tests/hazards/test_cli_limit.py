@@ -99,12 +99,17 @@ def test_bad_input_gets_one_line_and_exit_status_2(capsys: pytest.CaptureFixture
     assert len(err.strip().splitlines()) == 1
 
 
-@pytest.mark.parametrize("argv", [["--wavelength", "532nm", "--tissue", "hair"],
-                                  ["--wavelength", "532nm", "--limits", "ansi"]])
-def test_argparse_choices_exit_with_status_2(capsys: pytest.CaptureFixture[str], argv: list[str]) -> None:
+@pytest.mark.parametrize(("argv", "named"), [
+    (["--wavelength", "532nm", "--tissue", "hair"], "tissue: 'hair' is not a tissue this engine knows: allowed eye, skin"),
+    (["--wavelength", "532nm", "--limits", "ansi"], "limits: 'ansi' is not a known limit set: allowed icnirp2013, eu2006"),
+    (["--batch", "unused.csv", "--limits", "ansi"], "limits: 'ansi' is not a known limit set"),
+])
+def test_an_unknown_tissue_or_limit_set_is_one_line_naming_the_allowed_values(
+        capsys: pytest.CaptureFixture[str], argv: list[str], named: str) -> None:
     status, _, err = run(capsys, *argv)
     assert status == 2
-    assert "invalid choice" in err
+    assert err.startswith("error: ") and named in err
+    assert len(err.strip().splitlines()) == 1
 
 
 def test_batch_prints_one_object_per_line_in_order(capsys: pytest.CaptureFixture[str], tmp_path: Path) -> None:
