@@ -30,7 +30,7 @@ from hazards.errors import InputError
 from hazards.eyewear import Adequacy, En207Rating, EyewearBand, en207_rating, eyewear_adequacy, optical_density, parse_marking
 from hazards.limits import (
     DEFAULT_LIMITS,
-    LIMIT_SETS,
+    check_limit_set,
     default_exposure_duration,
     exposure_duration_basis,
     exposure_limit,
@@ -344,8 +344,7 @@ def _check_beam(beam: Beam) -> None:
 
 def _check_scenario(scenario: Scenario) -> None:
     """Ranges a Scenario built in code must respect; parse_assessment_request checks the same."""
-    if scenario.limits not in LIMIT_SETS:
-        raise InputError("limits", f"unknown limit set {scenario.limits!r}; one of {', '.join(LIMIT_SETS)}")
+    check_limit_set(scenario.limits)
     checks = (("reflectance", scenario.diffuse_reflectance, 0.0 <= scenario.diffuse_reflectance <= 1.0),
               ("viewing_angle", scenario.viewing_angle_rad, 0.0 <= scenario.viewing_angle_rad <= math.pi / 2),
               ("objective_diameter", scenario.objective_diameter_m, scenario.objective_diameter_m > 0),
@@ -510,8 +509,7 @@ def parse_assessment_request(mapping: Mapping[str, object]) -> tuple[Beam, Scena
     if diameter_at not in DIAMETER_DEFINITIONS:
         raise InputError("diameter_at", f"must be one of {', '.join(DIAMETER_DEFINITIONS)}, got {diameter_at!r}")
     limits = mapping.get("limits") or DEFAULT_LIMITS
-    if limits not in LIMIT_SETS:
-        raise InputError("limits", f"unknown limit set {limits!r}; one of {', '.join(LIMIT_SETS)}")
+    check_limit_set(limits)
     laser_class = mapping.get("laser_class")
     eyewear_value = mapping.get("eyewear") or ()
     markings = (eyewear_value,) if isinstance(eyewear_value, str) else eyewear_value

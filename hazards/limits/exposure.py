@@ -138,9 +138,14 @@ def _item(array: FloatArray, index: int) -> float | None:
 _BOUND_SLACK = 1e-9
 
 
-def check_limits_and_tissue(limits: str, tissue: str) -> LimitSet:
+def check_limit_set(limits: object) -> None:
+    """InputError naming "limits" unless ``limits`` names a shipped limit set."""
     if limits not in LIMIT_SETS:
         raise InputError("limits", f"{limits!r} is not a known limit set: allowed {', '.join(LIMIT_SETS)}")
+
+
+def check_limits_and_tissue(limits: str, tissue: str) -> LimitSet:
+    check_limit_set(limits)
     if tissue not in TISSUES:
         raise InputError("tissue", f"{tissue!r} is not a tissue this engine knows: allowed {', '.join(TISSUES)}")
     return load_limit_set(limits)
