@@ -17,6 +17,7 @@ import numpy as np
 
 from hazards import ENGINE_VERSION
 from hazards.beam import DIAMETER_DEFINITIONS, DiameterDefinition, aperture_averaged, to_one_over_e, to_one_over_e2
+from hazards.caution import CAUTION
 from hazards.classes import ClassCheck, check_class, normalise_class
 from hazards.distances import (
     HazardDistance,
@@ -39,9 +40,6 @@ from hazards.limits import (
 from hazards.units import format_si, parse_quantity
 from hazards.working import Working
 
-CAUTION = ("These figures support, and never replace, the judgement of your laser safety officer, local "
-           "codes and regulations, and licensed practice. Check every input against the data sheet and the "
-           "installed beam path before relying on a distance or an eyewear rating.")
 
 Mode = Literal["continuous", "single_pulse", "pulse_train"]
 

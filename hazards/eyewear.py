@@ -14,6 +14,7 @@ from typing import Literal
 
 from hazards.beam import circle_area, peak_over_area
 from hazards.errors import InputError
+from hazards.units import bounded_text
 from hazards.working import Working
 
 # OD and LB numbers are rounded up; a ratio that lands on a whole decade up to float noise
@@ -259,49 +260,71 @@ class EyewearBand:
         return self.low_m - 0.5e-9 <= wavelength_m <= self.high_m + 0.5e-9
 
 
-_RANGE = r"(\d+(?:\.\d+)?)(?:\s*(?:-|–|to)\s*(\d+(?:\.\d+)?))?"
-_MODE_FIRST = re.compile(rf"^\s*([DIRM]+)\s+{_RANGE}\s*(?:nm)?\s+L?B?\s*(\d+)\s*Y?\s*$", re.IGNORECASE)
-_RATING = re.compile(r"^\s*([DIRM]+)\s+L?B?\s*(\d+)\s*Y?\s*$", re.IGNORECASE)
-_WAVELENGTH_FIRST = re.compile(rf"^\s*{_RANGE}\s*(?:nm)?\s+(.+)$", re.IGNORECASE)
-_OD = re.compile(rf"^\s*OD\s*(\d+(?:\.\d+)?)\s*(?:@|at)?\s*{_RANGE}\s*(?:nm)?\s*$", re.IGNORECASE)
+# Possessive quantifiers throughout: each piece of a marking matches one way only, so a text
+# that is not a marking fails at once instead of backtracking over every split of its digits.
+_DECIMAL = r"\d++(?:\.\d++)?+"
+_RANGE = rf"({_DECIMAL})(?:\s*+(?:-|–|to)\s*+({_DECIMAL}))?+"
+_NM = r"(?:\s*+nm)?+"
+_SCALE = r"L?+B?+\s*+(\d++)\s*+Y?+"
+_MODE_FIRST = re.compile(rf"([DIRM]++)\s++{_RANGE}{_NM}\s++{_SCALE}", re.IGNORECASE)
+_RATING = re.compile(rf"([DIRM]++)\s++{_SCALE}", re.IGNORECASE)
+_WAVELENGTH_FIRST = re.compile(rf"{_RANGE}{_NM}\s++(.++)", re.IGNORECASE)
+_OD = re.compile(rf"OD\s*+({_DECIMAL})\s*+(?:(?:@|at)\s*+)?+{_RANGE}{_NM}", re.IGNORECASE)
+# What an eyewear maker can print: OD up to 20 (beyond any filter's measurable density, common
+# practice, no source), LB1 to LB10 (EN 207), wavelengths within the limit sets' 180 nm - 1 mm.
+_MAX_MARKED_OD = 20.0
+_MARKED_NM = (180.0, 1e6)
 
 
 def parse_marking(text: str, *, field_name: str = "eyewear") -> EyewearBand:
     """Read one marking: "D 1064 LB6", "IR 315-532 LB6", "1064 D LB7 + I LB8", "OD 6 190-532 nm".
 
     Both EN 207 orders (letters first, or wavelength first with "+"-joined ratings) are in use;
-    "L6" (before EN 207:2009) is read as LB6, and the suffix Y is accepted.
+    "L6" (before EN 207:2009) is read as LB6, and the suffix Y is accepted. A text longer than
+    hazards.units.MAX_TEXT_LENGTH, an LB number outside 1-10, an OD above 20 or a wavelength
+    outside 180 nm - 1 mm is refused.
     """
-    match = _OD.match(text)
+    text = " ".join(bounded_text(text, field=field_name).split())
+    match = _OD.fullmatch(text)
     if match:
-        low, high = _band(match.group(2), match.group(3))
-        return EyewearBand(low, high, optical_density=float(match.group(1)))
-    match = _MODE_FIRST.match(text)
+        low, high = _band(match.group(2), match.group(3), field_name)
+        density = float(match.group(1))
+        if not 0.0 < density <= _MAX_MARKED_OD:
+            raise InputError(field_name, f"OD {match.group(1)} in {text!r} is not a marked optical density "
+                             f"(above 0, at most {_MAX_MARKED_OD:g})")
+        return EyewearBand(low, high, optical_density=density)
+    match = _MODE_FIRST.fullmatch(text)
     if match:
-        low, high = _band(match.group(2), match.group(3))
-        return EyewearBand(low, high, scale_numbers=_ratings(match.group(1), int(match.group(4)), {}))
-    match = _WAVELENGTH_FIRST.match(text)
+        low, high = _band(match.group(2), match.group(3), field_name)
+        return EyewearBand(low, high, scale_numbers=_ratings(match.group(1), match.group(4), {}, field_name))
+    match = _WAVELENGTH_FIRST.fullmatch(text)
     if match:
-        low, high = _band(match.group(1), match.group(2))
+        low, high = _band(match.group(1), match.group(2), field_name)
         numbers: dict[str, int] = {}
         for part in match.group(3).split("+"):
-            rating = _RATING.match(part)
+            rating = _RATING.fullmatch(part.strip())
             if rating is None:
                 break
-            _ratings(rating.group(1), int(rating.group(2)), numbers)
+            _ratings(rating.group(1), rating.group(2), numbers, field_name)
         else:
             return EyewearBand(low, high, scale_numbers=numbers)
     raise InputError(field_name, f"cannot read eyewear marking {text!r} (examples: 'D 1064 LB6', "
                                  "'1064 D LB7 + IR LB8', 'OD 6 190-532 nm')")
 
 
-def _band(low_text: str, high_text: str | None) -> tuple[float, float]:
-    low = float(low_text) * 1e-9
-    high = float(high_text) * 1e-9 if high_text else low
-    return min(low, high), max(low, high)
+def _band(low_text: str, high_text: str | None, field_name: str) -> tuple[float, float]:
+    low_nm = float(low_text)
+    high_nm = float(high_text) if high_text else low_nm
+    for value in (low_nm, high_nm):
+        if not _MARKED_NM[0] <= value <= _MARKED_NM[1]:
+            raise InputError(field_name, f"wavelength {value:g} nm is outside 180 nm - 1 mm")
+    return min(low_nm, high_nm) * 1e-9, max(low_nm, high_nm) * 1e-9
 
 
-def _ratings(letters: str, number: int, into: dict[str, int]) -> dict[str, int]:
+def _ratings(letters: str, number_text: str, into: dict[str, int], field_name: str) -> dict[str, int]:
+    number = int(number_text) if len(number_text) <= 2 else LB_MAX + 1
+    if not 1 <= number <= LB_MAX:
+        raise InputError(field_name, f"LB{number_text} is not an EN 207 scale number (LB1 to LB{LB_MAX})")
     for letter in letters.upper():
         into[letter] = max(number, into.get(letter, 0))
     return into

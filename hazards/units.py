@@ -17,9 +17,13 @@ ureg: pint.UnitRegistry[float] = pint.UnitRegistry()
 # Quantities unpickled elsewhere in the process then belong to this same registry.
 pint.set_application_registry(ureg)  # type: ignore[no-untyped-call]
 
-_NUMBER_THEN_UNIT = re.compile(
-    r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$"
-)
+# A quantity, a marking or a unit a person types is never longer than this; anything longer is
+# refused before any parsing, so that no input can make the parser work for long.
+MAX_TEXT_LENGTH = 100
+
+# The leading number of "5 mW", "1.064um", "-3e-2 rad". Possessive quantifiers: every piece
+# matches one way only, so a failed match never backtracks.
+_NUMBER = re.compile(r"[-+]?+(?:\d++(?:\.\d*+)?+|\.\d++)(?:[eE][-+]?+\d++)?+")
 
 
 @lru_cache(maxsize=256)
@@ -47,7 +51,10 @@ def parse_quantity(
     if isinstance(value, bool):
         raise InputError(field, f"expected a number in {unit} or a value with units, got {value!r}")
     if isinstance(value, (int, float)):
-        magnitude = float(value)
+        try:
+            magnitude = float(value)
+        except OverflowError:  # an int of hundreds of digits
+            raise InputError(field, f"{_abridged(value)} is out of range") from None
     elif isinstance(value, str):
         magnitude = _from_text(value, field=field, unit=unit)
     else:
@@ -59,11 +66,24 @@ def parse_quantity(
     return magnitude
 
 
+def bounded_text(text: str, *, field: str) -> str:
+    """``text`` without surrounding whitespace; InputError naming ``field`` if it is too long to be a value."""
+    if len(text) > MAX_TEXT_LENGTH:
+        raise InputError(field, f"is {len(text)} characters long; a value is at most {MAX_TEXT_LENGTH}")
+    return text.strip()
+
+
+def _abridged(value: object) -> str:
+    text = repr(value)
+    return text if len(text) <= 40 else f"{text[:20]}...{text[-10:]} ({len(text)} characters)"
+
+
 def _from_text(text: str, *, field: str, unit: str) -> float:
-    match = _NUMBER_THEN_UNIT.match(text)
+    text = bounded_text(text, field=field)
+    match = _NUMBER.match(text)
     if match is None:
         raise InputError(field, f"cannot read {text!r} as a number with a unit (for example '5 {unit}')")
-    number, unit_text = float(match.group(1)), match.group(2)
+    number, unit_text = float(match.group()), text[match.end():].strip()
     if not unit_text:
         return number
     # pint parses unit text with Python's tokenizer and evaluator, which fail on arbitrary
@@ -111,7 +131,7 @@ def _check_range(
         allowed = f"{'at least' if inclusive_minimum else 'greater than'} {format_si(minimum, unit)}"
     else:
         allowed = f"at most {format_si(maximum, unit)}"  # type: ignore[arg-type]
-    raise InputError(field, f"{original!r} is out of range: allowed {allowed}")
+    raise InputError(field, f"{_abridged(original)} is out of range: allowed {allowed}")
 
 
 _PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""), (1e3, "k"),

@@ -17,6 +17,7 @@ from pathlib import Path
 import dj_database_url
 from django.core.exceptions import ImproperlyConfigured
 
+from hazards.caution import CAUTION
 from registry.env import env_bool, env_choice, env_int, env_list, env_secret, env_str, env_time_zone
 
 BASE_DIR = Path(__file__).resolve().parent.parent
@@ -168,8 +169,7 @@ SPECTACULAR_SETTINGS = {
     "DESCRIPTION": (
         "The laser register over HTTP. Physical fields take a number in the SI unit named in "
         "their description (and in x-unit) or a string with units such as '5 mW' or '532 nm'; "
-        "responses give the SI number and a '<field>_text' string. Hazard figures support, and "
-        "never replace, the judgement of the laser safety officer and the local regulations."
+        "responses give the SI number and a '<field>_text' string. " + CAUTION
     ),
     "VERSION": "1",
     # Requests accept strings with units where responses give numbers, so the two differ.

@@ -10,6 +10,7 @@ import argparse
 import sys
 from collections.abc import Sequence
 
+from hazards.caution import CAUTION
 from hazards.cli import assess, limit
 from hazards.errors import InputError
 
@@ -19,8 +20,7 @@ EXIT_BAD_INPUT = 2
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="python -m hazards",
-        description="Laser exposure limits and hazard figures. Results support, and never "
-        "replace, the judgement of your laser safety officer and local regulations.",
+        description="Laser exposure limits and hazard figures. " + CAUTION,
     )
     subparsers = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     limit.register(subparsers)

@@ -5,6 +5,7 @@ import argparse
 import json
 
 from hazards.assessment import assess, parse_assessment_request
+from hazards.caution import CAUTION
 from hazards.beam import DIAMETER_DEFINITIONS
 from hazards.classes import LASER_CLASSES
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
@@ -36,8 +37,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser = subparsers.add_parser(
         "assess", help="hazard distances, optical density and EN 207 rating for one emission",
         description="Assess one emission: NOHD, diffuse and skin hazard distances, required OD, EN 207 "
-        "markings, class plausibility, with the working. Results support, and never replace, the LSO's "
-        "judgement, local codes and licensed practice.")
+        "markings, class plausibility, with the working. " + CAUTION)
     for option, help_text in _VALUE_OPTIONS:
         parser.add_argument(f"--{option}", help=help_text)
     # No argparse choices: a wrong value then gets the same one-line error, naming the field, as any other.

@@ -11,9 +11,9 @@ from typing import Any
 
 import numpy as np
 
+from hazards.caution import CAUTION
 from hazards.errors import InputError
 from hazards.limits import (
-    CAUTION,
     DEFAULT_LIMITS,
     LIMIT_SETS,
     ExposureLimit,

@@ -6,7 +6,6 @@ rows from them and shows its working. Every function broadcasts over numpy array
 from __future__ import annotations
 
 from hazards.limits.exposure import (
-    CAUTION,
     DEFAULT_LIMITS,
     LIMIT_SETS,
     ExposureLimit,
@@ -18,7 +17,6 @@ from hazards.limits.exposure import (
 from hazards.limits.pulses import PULSE_RULES, PulseTrainLimit, pulse_train_limit
 
 __all__ = [
-    "CAUTION",
     "DEFAULT_LIMITS",
     "LIMIT_SETS",
     "PULSE_RULES",

@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from hazards import ENGINE_VERSION
+from hazards.caution import CAUTION
 from hazards.errors import InputError
 from hazards.limits.engine import Evaluation, FloatArray, evaluate_aperture_mm, evaluate_rows
 from hazards.limits.limit_set import TISSUES, LimitSet, Row, available_limit_sets, load_limit_set
@@ -19,8 +20,6 @@ from hazards.working import Working
 DEFAULT_LIMITS = "icnirp2013"
 LIMIT_SETS: tuple[str, ...] = tuple(sorted(available_limit_sets(), key=lambda name: (name != DEFAULT_LIMITS, name)))
 
-CAUTION = ("These figures support, and never replace, the judgement of the laser safety officer "
-           "and the local regulations.")
 
 # Exposure durations of common practice (not part of any limit set): the aversion response
 # for visible light, a 10 s deliberate-stare allowance in the infrared (eye movements spread

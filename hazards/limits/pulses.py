@@ -23,10 +23,10 @@ import numpy as np
 from numpy.typing import NDArray
 
 from hazards import ENGINE_VERSION
+from hazards.caution import CAUTION
 from hazards.errors import InputError
 from hazards.limits.engine import FloatArray, Variables
 from hazards.limits.exposure import (
-    CAUTION,
     DEFAULT_LIMITS,
     ExposureLimit,
     as_checked_array,

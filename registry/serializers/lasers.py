@@ -5,6 +5,7 @@ from typing import Any
 
 from rest_framework import serializers
 
+from hazards.caution import CAUTION
 from hazards.units import format_si
 from registry.models import (
     MAX_WAVELENGTH_M,
@@ -25,10 +26,6 @@ from registry.serializers.fields import QuantityField, QuantitySerializerMixin
 # set is refused: data sheets round both figures. The same tolerance as hazards.assessment
 # (common practice, no source).
 POWER_CONSISTENCY = 0.2
-
-HAZARD_CAUTION = ("Figures support, and never replace, the judgement of the laser safety officer and the "
-                  "local regulations.")
-
 
 class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """The engine's figures for one emission under one limit set, as stored at ``computed_at``."""
@@ -76,7 +73,7 @@ class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serialize
         return record_url(self, "api:hazard-result-working", result.pk)
 
     def get_caution(self, result: HazardResult) -> str:
-        return HAZARD_CAUTION
+        return CAUTION
 
 
 class HazardWorkingSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
@@ -91,7 +88,7 @@ class HazardWorkingSerializer(serializers.ModelSerializer):  # type: ignore[type
         read_only_fields = fields
 
     def get_caution(self, result: HazardResult) -> str:
-        return HAZARD_CAUTION
+        return CAUTION
 
 
 class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]

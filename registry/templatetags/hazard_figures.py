@@ -9,6 +9,7 @@ from __future__ import annotations
 from django import template
 from django.utils.translation import gettext as _
 
+from hazards.caution import CAUTION
 from hazards.limits.limit_set import load_limit_set
 from hazards.units import format_si
 from hazards.working import Step, StepDict, Working
@@ -18,16 +19,9 @@ register = template.Library()
 
 NOT_COMPUTED = "not computed"
 
-# The engine's caution (hazards.limits.CAUTION) widened for the register, whose figures
-# rest on what someone typed in from a data sheet.
-HAZARD_CAUTION = ("These figures support, and never replace, the judgement of the laser safety officer, the local "
-                  "regulations and licensed practice. Check every input against the laser's data sheet before "
-                  "relying on a figure.")
-
-
 @register.simple_tag
 def hazard_caution() -> str:
-    return HAZARD_CAUTION
+    return CAUTION
 
 
 @register.filter

@@ -17,7 +17,7 @@ from registry.forms import QuantityField
 from registry.models import Emission, HazardResult
 from registry.services import person_create
 from registry.templatetags import hazard_figures
-from registry.templatetags.hazard_figures import HAZARD_CAUTION
+from hazards.caution import CAUTION
 from tests import factories
 
 # Unit conversions below are the SI prefixes and derived units of the BIPM SI Brochure
@@ -299,7 +299,7 @@ def test_the_result_list_shows_distances_with_units_and_the_caution(lso_client: 
     assert "OD 3" in html and "D LB3" in html
     assert "eu2006" in html
     assert "6.4 J/m\u00b2 = 25.6 W/m\u00b2 over 0.25 s" in html
-    assert escape(HAZARD_CAUTION) in html
+    assert escape(CAUTION) in html
 
 
 @pytest.mark.django_db
@@ -336,7 +336,7 @@ def test_the_result_page_shows_figures_working_and_caution_for_a_computed_emissi
     assert "[EN 207 Annex B" in html
     assert "ICNIRP 2013 guidelines on limits of exposure to laser radiation (icnirp2013)" in html
     assert result.engine_version in html
-    assert escape(HAZARD_CAUTION) in html
+    assert escape(CAUTION) in html
     assert 'name="nohd_m"' not in html  # figures are read-only
 
 
@@ -347,7 +347,7 @@ def test_the_emission_page_shows_its_results_with_the_caution(lso_client: Client
     response = lso_client.get(reverse("admin:registry_emission_change", args=[result.emission.pk]))
     html = response.content.decode()
     assert "NOHD 31.6 m, OD 2" in html
-    assert escape(HAZARD_CAUTION) in html
+    assert escape(CAUTION) in html
     detail = lso_client.get(reverse("admin:registry_hazardresult_change", args=[result.pk])).content.decode()
     # ICNIRP 2013 skin limit 400-1400 nm, 10 s - 30 ks: E = 2000 W/m^2 C_A, shown in plain digits.
     assert "20000 J/m\u00b2 = 2000 W/m\u00b2 over 10 s" in detail
