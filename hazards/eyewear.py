@@ -10,7 +10,7 @@ import math
 import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Literal, TypedDict
 
 from hazards.beam import circle_area, peak_over_area
 from hazards.errors import InputError
@@ -22,6 +22,7 @@ from hazards.working import Working
 _ROUNDING_SLACK = 1e-9
 
 Condition = Literal["D", "I", "R", "M"]
+_CONDITIONS: tuple[Condition, ...] = ("D", "I", "R", "M")
 
 # Test-condition boundaries, DGUV 203-042 section 5.1 Table 2 (EN 207 Table 1).
 _CONTINUOUS_ABOVE_S = 0.25
@@ -102,6 +103,17 @@ def pulse_grouping_time(wavelength_m: float) -> float | None:
     return None
 
 
+class LbRequirementDict(TypedDict):
+    condition: Condition
+    wavelength_nm: float
+    scale_number: int
+    marking: str | None
+    needed: bool
+    within_scale: bool
+    density: float
+    density_unit: str
+
+
 @dataclass(frozen=True)
 class LbRequirement:
     """One required EN 207 rating: condition letter, wavelength, scale number."""
@@ -121,7 +133,18 @@ class LbRequirement:
             return None
         return f"{self.condition} {_nanometres(self.wavelength_m)} LB{self.scale_number}"
 
-    def to_dict(self) -> dict[str, object]:
+    @classmethod
+    def from_dict(cls, record: LbRequirementDict) -> LbRequirement:
+        """The requirement ``to_dict`` wrote (as a register stores it)."""
+        condition = record["condition"]
+        if condition not in _CONDITIONS:
+            raise ValueError(f"unknown EN 207 test condition {condition!r}")
+        return cls(condition=condition, wavelength_m=record["wavelength_nm"] * 1e-9,
+                   scale_number=record["scale_number"], density=record["density"],
+                   quantity="E" if record["density_unit"] == "W/m2" else "H", needed=record["needed"],
+                   within_scale=record["within_scale"])
+
+    def to_dict(self) -> LbRequirementDict:
         return {"condition": self.condition, "wavelength_nm": self.wavelength_m * 1e9,
                 "scale_number": self.scale_number, "marking": self.marking, "needed": self.needed,
                 "within_scale": self.within_scale, "density": self.density,

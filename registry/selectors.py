@@ -7,9 +7,13 @@ of queries however many rows it shows.
 from __future__ import annotations
 
 import datetime
+from dataclasses import dataclass
 
+from django.conf import settings
 from django.db.models import Prefetch, Q, QuerySet
 from django.utils import timezone
+
+from hazards.eyewear import Adequacy, EyewearBand, LbRequirement, eyewear_adequacy
 
 from registry.models import (
     GENERAL_COURSES,
@@ -17,13 +21,17 @@ from registry.models import (
     Audit,
     Authorization,
     AuthorizationStatus,
+    RETIRED_STATUSES,
     Emission,
     Eyewear,
+    EyewearCondition,
+    EyewearMarking,
     Finding,
     FindingStatus,
     HazardResult,
     Incident,
     Laser,
+    Location,
     Person,
     Role,
     SOPAcknowledgement,
@@ -145,3 +153,74 @@ def incident_list() -> QuerySet[Incident]:
     return Incident.objects.select_related("laser", "location", "reported_by__user").prefetch_related(
         "people_involved__user"
     )
+
+
+def register_limits() -> str:
+    """The limit set the register leads with (settings.HAZARD_LIMITS); both sets are always stored."""
+    return str(settings.HAZARD_LIMITS)
+
+
+def eyewear_band(marking: EyewearMarking) -> EyewearBand:
+    """The engine's view of one marked band: its OD and an LB number under each marked test letter."""
+    scale_numbers = ({letter: marking.en207_scale for letter in marking.en207_conditions.upper()}
+                     if marking.en207_scale is not None else {})
+    return EyewearBand(marking.wavelength_min_m, marking.wavelength_max_m, optical_density=marking.optical_density,
+                       scale_numbers=scale_numbers)
+
+
+@dataclass(frozen=True)
+class EyewearMatrix:
+    """Each emission of a room's lasers against each eyewear item kept there, under one limit set.
+
+    ``cells[(emission.pk, eyewear.pk)]`` is the engine's verdict from the item's marked bands.
+    An emission without a result under the limit set is in ``not_assessed`` and has no cells.
+    Damaged eyewear is judged on its marking like any other, but never protects anyone:
+    ``unprotected`` lists the assessed emissions that need eyewear (OD above 0) and have no
+    adequate item in good or worn condition.
+    """
+
+    location: Location
+    limits: str
+    emissions: list[Emission]
+    eyewear: list[Eyewear]
+    cells: dict[tuple[int, int], Adequacy]
+    not_assessed: list[Emission]
+    unprotected: list[Emission]
+
+
+_VERDICT_SEVERITY = {"adequate": 0, "inadequate": 1, "not_covered": 2}
+
+
+def location_eyewear_matrix(*, location: Location, limits: str | None = None) -> EyewearMatrix:
+    """The eyewear adequacy of ``location`` (four queries: lasers with emissions and results, eyewear with markings).
+
+    The lasers are those in the register's care in the room (every status but disposed and transferred).
+    """
+    chosen = limits or register_limits()
+    lasers = laser_list().filter(location=location).exclude(status__in=RETIRED_STATUSES)
+    items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
+    bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
+    emissions: list[Emission] = []
+    not_assessed: list[Emission] = []
+    unprotected: list[Emission] = []
+    cells: dict[tuple[int, int], Adequacy] = {}
+    for laser in lasers:
+        for emission in laser.current_emissions:
+            result = next((r for r in emission.current_results if r.limits == chosen), None)
+            if result is None or result.od_required is None:
+                not_assessed.append(emission)
+                continue
+            emissions.append(emission)
+            requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
+            # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
+            ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
+            for item in items:
+                cells[(emission.pk, item.pk)] = max(
+                    (eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
+                     for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
+            protected = any(cells[(emission.pk, item.pk)].status == "adequate"
+                            for item in items if item.condition != EyewearCondition.DAMAGED)
+            if result.od_required > 0 and not protected:
+                unprotected.append(emission)
+    return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
+                         not_assessed=not_assessed, unprotected=unprotected)

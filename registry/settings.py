@@ -18,6 +18,7 @@ import dj_database_url
 from django.core.exceptions import ImproperlyConfigured
 
 from hazards.caution import CAUTION
+from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
 from registry.env import env_bool, env_choice, env_int, env_list, env_secret, env_str, env_time_zone
 
 BASE_DIR = Path(__file__).resolve().parent.parent
@@ -102,6 +103,10 @@ AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
     {"NAME": "django.contrib.auth.password_validation.NumericPasswordValidator"},
 ]
+
+# The limit set the register's pages, signs and reports lead with; results under every shipped
+# set are stored, and the pages show the others beside it. Local rules decide which one leads.
+HAZARD_LIMITS = env_choice("BEAMKEEPER_LIMITS", DEFAULT_LIMITS, LIMIT_SETS)
 
 LANGUAGE_CODE = "en"
 TIME_ZONE = env_time_zone("TIME_ZONE", "UTC")

@@ -47,6 +47,10 @@ class HazardResult(TimestampedModel):
         help_text=_("log10(exposure at the limiting aperture / MPE) before rounding up; may be negative."))
     en207_marking = models.CharField(_("EN 207 marking"), max_length=100, blank=True,
                                      help_text=_("e.g. 'D LB5'; empty when no rating applies."))
+    en207_requirements = models.JSONField(
+        _("EN 207 requirements"), default=list, blank=True,
+        help_text=_("Each required rating (test condition, wavelength, scale number), as the engine gives them; "
+                    "eyewear in a room is checked against these."))
     working = models.JSONField(_("working"), default=list, blank=True)
     warnings = models.JSONField(_("warnings"), default=list, blank=True)
     engine_version = models.CharField(_("engine version"), max_length=40)

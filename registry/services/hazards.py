@@ -169,6 +169,7 @@ def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
         "od_required": evaluation.od_required,
         "od_exact": evaluation.od_exact,
         "en207_marking": " + ".join(assessment.en207.markings),
+        "en207_requirements": [requirement.to_dict() for requirement in assessment.en207.requirements],
         "working": assessment.working.to_json(),
         "warnings": list(assessment.warnings) + evaluation.warnings,
         "engine_version": ENGINE_VERSION,
