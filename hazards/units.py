@@ -93,12 +93,18 @@ def _from_text(text: str, *, field: str, unit: str) -> float:
         given = _unit(unit_text)
     except Exception:  # noqa: BLE001
         raise InputError(field, f"unknown unit {unit_text!r} in {text!r}") from None
-    try:
-        return float(ureg.Quantity(number, given).to(unit).magnitude)
-    except pint.errors.DimensionalityError:
+    # Same root units, not only the same dimension: pint counts angles and percentages alike as
+    # dimensionless, and would take "5 percent" as an angle or "5 rad/s" as a repetition rate.
+    if _root_units(given) != _root_units(unit):
         raise InputError(
             field, f"{text!r} is not {_with_article(_dimension_name(unit))} (expected a value in {unit} or compatible units)"
-        ) from None
+        )
+    return float(ureg.Quantity(number, given).to(unit).magnitude)
+
+
+@lru_cache(maxsize=256)
+def _root_units(unit: pint.Unit | str) -> pint.Unit:
+    return ureg.get_root_units(unit)[1]
 
 
 def _with_article(noun: str) -> str:
@@ -163,3 +169,46 @@ def format_for_input(value: float, unit: str, *, display_unit: str | None = None
         return format_si(value, unit, digits=digits)
     scale = float(ureg.Quantity(1.0, _unit(display_unit)).to(unit).magnitude)
     return f"{value / scale:.{digits}g} {display_unit}"
+
+
+# Prefixes a person reads without effort, per unit: lengths stop at km, durations at s (a
+# "ks" is read as nothing at all); beyond the largest, whole numbers are grouped in thousands.
+_PEOPLE_PREFIXES: dict[str, tuple[tuple[float, str], ...]] = {
+    "m": ((1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""), (1e3, "k")),
+    "s": ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, "")),
+    "rad": ((1e-6, "µ"), (1e-3, "m"), (1.0, "")),
+}
+_PEOPLE_DEFAULT_PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""),
+                            (1e3, "k"), (1e6, "M"), (1e9, "G"))
+_SUPERSCRIPTS = {"m2": "m²", "m**2": "m²", "cm2": "cm²"}
+
+
+def format_for_people(value: float, unit: str) -> str:
+    """A figure as a person reads it: three significant figures and a metric prefix, never an exponent.
+
+    format_for_people(707.2349, "m") -> "707 m"; (1.98e-07, "J/m2") -> "198 nJ/m²";
+    (30000, "s") -> "30 000 s"; (0.0005, "rad") -> "500 µrad". The prefix goes on the unit
+    before any "/"; a unit without prefixes ("" for a plain number) gets none.
+    """
+    numerator, slash, rest = unit.partition("/")
+    shown_unit = numerator + slash + _SUPERSCRIPTS.get(rest, rest)
+    if not math.isfinite(value):
+        return f"{value} {shown_unit}".strip()
+    rounded = float(f"{value:.3g}")
+    if rounded == 0 or numerator not in {"m", "s", "W", "J", "rad", "Hz"}:
+        return f"{_three_figures(rounded)} {shown_unit}".strip()
+    prefixes = _PEOPLE_PREFIXES.get(numerator, _PEOPLE_DEFAULT_PREFIXES)
+    scale, prefix = prefixes[0]
+    for candidate_scale, candidate_prefix in prefixes:
+        if abs(rounded) >= candidate_scale * 0.9999999:
+            scale, prefix = candidate_scale, candidate_prefix
+    return f"{_three_figures(rounded / scale)} {prefix}{shown_unit}"
+
+
+def _three_figures(value: float) -> str:
+    """Three significant figures in plain notation; thousands grouped with a space ("30 000")."""
+    rounded = float(f"{value:.3g}")
+    if abs(rounded) >= 1000:
+        return f"{rounded:,.0f}".replace(",", " ")
+    decimals = max(0, 2 - math.floor(math.log10(abs(rounded)))) if rounded else 0
+    return f"{rounded:.{decimals}f}".rstrip("0").rstrip(".") if decimals else f"{rounded:.0f}"

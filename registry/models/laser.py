@@ -182,6 +182,10 @@ class Emission(TimestampedModel):
     fibre_na = models.FloatField(_("fibre numerical aperture"), null=True, blank=True,
                                  help_text=_("Only for fibre-delivered beams."))
     notes = models.TextField(_("notes"), blank=True)
+    assessment_problem = models.TextField(
+        _("why the hazard is not assessed"), blank=True,
+        help_text=_("Set by the register when the hazards engine cannot assess this emission (a missing beam "
+                    "diameter, say); empty when its results are stored."))
 
     history = HistoricalRecords()
 

@@ -203,7 +203,8 @@ def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None =
 
     With ``only_stale``, an emission whose results are newer than the emission and its
     laser and come from this engine version is left alone. An emission that cannot be
-    assessed loses any old results and is listed with the reason.
+    assessed loses any old results and is listed with the reason, which is also kept in
+    ``emission.assessment_problem`` (cleared once it assesses).
     """
     summary = RefreshSummary()
     for emission in emissions:
@@ -214,16 +215,38 @@ def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None =
                 for limits in LIMIT_SETS:
                     emission_assess(emission=emission, limits=limits, by=by)
         except ValidationError as error:
-            emission.hazard_results.all().delete()
-            summary.not_assessed.append((emission, "; ".join(error.messages)))
+            _not_assessed(emission, _reason(error), summary)
             continue
         except Exception as error:  # noqa: BLE001
             # A fault inside the engine for one emission must not stop the register from
             # saving the emission; it is logged and reported, and no figure is shown.
             logger.warning("hazards engine failed on emission %s (%s): %s: %s", emission.pk, emission,
                            type(error).__name__, error)
-            emission.hazard_results.all().delete()
-            summary.not_assessed.append((emission, f"engine error: {type(error).__name__}: {error}"))
+            _not_assessed(emission, f"engine error: {type(error).__name__}: {error}", summary)
             continue
+        _set_problem(emission, "")
         summary.assessed += 1
     return summary
+
+
+def _reason(error: ValidationError) -> str:
+    """The refusal in words, each message led by the emission field it names."""
+    if not hasattr(error, "error_dict"):
+        return "; ".join(error.messages)
+    names = {field.name: str(field.verbose_name) for field in Emission._meta.get_fields() if hasattr(field, "verbose_name")}
+    return "; ".join(f"{names.get(name, name)}: {message}" for name, messages in error.message_dict.items()
+                     for message in messages)
+
+
+def _not_assessed(emission: Emission, reason: str, summary: RefreshSummary) -> None:
+    emission.hazard_results.all().delete()
+    _set_problem(emission, reason)
+    summary.not_assessed.append((emission, reason))
+
+
+def _set_problem(emission: Emission, problem: str) -> None:
+    # Derived, like the results: written without touching updated_at (which dates the
+    # inputs the results were computed from) and without a history row of its own.
+    if emission.assessment_problem != problem:
+        Emission.objects.filter(pk=emission.pk).update(assessment_problem=problem)
+        emission.assessment_problem = problem

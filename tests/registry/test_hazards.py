@@ -78,7 +78,7 @@ def test_an_emission_without_divergence_keeps_no_result_until_it_has_one(researc
     assert not emission.hazard_results.exists()
     summary = hazard_results_refresh(emissions=[emission])
     assert [(item.pk, reason) for item, reason in summary.not_assessed] == [
-        (emission.pk, f"needed to assess the hazard of {emission}")]
+        (emission.pk, f"full-angle divergence (rad): needed to assess the hazard of {emission}")]
     emission_update(emission=emission, by=researcher, divergence_rad="1 mrad")
     assert emission.hazard_results.count() == len(LIMIT_SETS)
 
@@ -162,3 +162,19 @@ def test_a_continuous_beam_has_no_per_pulse_limit(researcher: Person) -> None:
     result = helium_neon(researcher).hazard_results.get(limits="icnirp2013")
     assert result.eye_mpe_per_pulse_J_m2 is None
     assert result.pulse_rule == "continuous wave"
+
+
+@pytest.mark.django_db
+def test_the_reason_an_emission_is_not_assessed_is_kept_and_cleared_once_it_assesses() -> None:
+    from registry.services import emission_create, emission_update
+
+    laser = factories.LaserFactory.create()
+    emission = emission_create(laser=laser, by=None, wavelength_m="532 nm", temporal_mode="cw",
+                               average_power_W="5 mW", beam_diameter_m="1 mm")
+    emission.refresh_from_db()
+    assert "divergence" in emission.assessment_problem
+    assert not emission.hazard_results.exists()
+    emission_update(emission=emission, by=None, divergence_rad="1 mrad")
+    emission.refresh_from_db()
+    assert emission.assessment_problem == ""
+    assert emission.hazard_results.count() == 2
