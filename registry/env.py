@@ -67,6 +67,25 @@ def env_int(name: str, default: int, *, minimum: int | None = None) -> int:
     return number
 
 
+def env_mapping(name: str, default: dict[str, str], *, keys: tuple[str, ...]) -> dict[str, str]:
+    """Comma-separated ``key=value`` pairs, each key one of ``keys``; keys left out keep no value.
+
+    "3B=WARNING,4=DANGER" -> {"3B": "WARNING", "4": "DANGER"}. Unset: ``default``.
+    """
+    pairs = env_list(name, [])
+    if not pairs:
+        return dict(default)
+    mapping: dict[str, str] = {}
+    for pair in pairs:
+        key, equals, value = (part.strip() for part in pair.partition("="))
+        if not equals or not value or key not in keys:
+            raise ImproperlyConfigured(
+                f"The environment variable {name} must be comma-separated KEY=VALUE pairs with KEY one of "
+                f"{', '.join(keys)}; got {pair!r}.")
+        mapping[key] = value
+    return mapping
+
+
 def env_list(name: str, default: list[str]) -> list[str]:
     """A comma-separated list; blanks around items are dropped, empty items are an error."""
     value = os.environ.get(name, "")

@@ -7,20 +7,25 @@ of queries however many rows it shows.
 from __future__ import annotations
 
 import datetime
+from collections.abc import Iterable
 from dataclasses import dataclass
 
 from django.conf import settings
 from django.db.models import Prefetch, Q, QuerySet
 from django.utils import timezone
 
+from hazards.classes import LASER_CLASSES
 from hazards.eyewear import Adequacy, EyewearBand, LbRequirement, eyewear_adequacy
 
 from registry.models import (
     GENERAL_COURSES,
+    HAZARDOUS_CLASSES,
     SOP,
     Audit,
     Authorization,
     AuthorizationStatus,
+    AuditScope,
+    AuditStatus,
     RETIRED_STATUSES,
     Emission,
     Eyewear,
@@ -224,3 +229,69 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None) ->
                 unprotected.append(emission)
     return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
                          not_assessed=not_assessed, unprotected=unprotected)
+
+
+def signal_word(classes: Iterable[str]) -> str | None:
+    """The door sign's signal word for the highest of ``classes`` (settings.SIGNAL_WORDS); None: no sign needed."""
+    present = [label for label in classes if label]
+    if not present:
+        return None
+    highest = max(present, key=LASER_CLASSES.index)
+    word = settings.SIGNAL_WORDS.get(highest)
+    return str(word) if word else None
+
+
+@dataclass(frozen=True)
+class AuditDue:
+    """When a location that holds a class 3B or 4 laser is next due for audit.
+
+    ``last`` is the last signed-off audit covering it (its own, or the whole site's), None if
+    it was never audited; ``due_on`` is None for a location never audited, which is overdue.
+    ``planned`` is an audit of it planned or in progress, if any.
+    """
+
+    location: Location
+    last: Audit | None
+    due_on: datetime.date | None
+    overdue: bool
+    planned: Audit | None
+
+
+def audits_due(*, today: datetime.date | None = None, within_days: int = 30) -> list[AuditDue]:
+    """Locations with a class 3B/4 laser in the register's care that are due within ``within_days``, or overdue.
+
+    Three queries: the locations, the signed-off audits and the open ones. Overdue first, then by due date.
+    """
+    day = today or timezone.localdate()
+    hazardous = (Q(lasers__labelled_class__in=HAZARDOUS_CLASSES) | Q(lasers__embedded_class__in=HAZARDOUS_CLASSES)) \
+        & ~Q(lasers__status__in=RETIRED_STATUSES)
+    locations = list(Location.objects.filter(hazardous).distinct().order_by("site", "building", "room"))
+    covering = Q(scope=AuditScope.LOCATION, location__in=locations) | Q(scope=AuditScope.SITE)
+    audits = Audit.objects.filter(covering, retired_at__isnull=True).select_related("location").order_by("conducted_on")
+    signed_off = [audit for audit in audits if audit.status == AuditStatus.SIGNED_OFF]
+    open_audits = [audit for audit in audits if audit.status != AuditStatus.SIGNED_OFF]
+    due: list[AuditDue] = []
+    for location in locations:
+        last = next((audit for audit in reversed(signed_off) if _covers(audit, location)), None)
+        due_on = None if last is None else _add_months(last.conducted_on, settings.AUDIT_INTERVAL_MONTHS)
+        if due_on is not None and due_on > day + datetime.timedelta(days=within_days):
+            continue
+        planned = next((audit for audit in open_audits if _covers(audit, location)), None)
+        due.append(AuditDue(location=location, last=last, due_on=due_on, overdue=due_on is None or due_on < day,
+                            planned=planned))
+    return sorted(due, key=lambda item: (not item.overdue, item.due_on or datetime.date.min))
+
+
+def _covers(audit: Audit, location: Location) -> bool:
+    if audit.scope == AuditScope.LOCATION:
+        return audit.location_id == location.pk
+    return not audit.site or audit.site == location.site
+
+
+def _add_months(day: datetime.date | None, months: int) -> datetime.date | None:
+    if day is None:
+        return None
+    month = day.month - 1 + months
+    year, month = day.year + month // 12, month % 12 + 1
+    last_day = (datetime.date(year + month // 12, month % 12 + 1, 1) - datetime.timedelta(days=1)).day
+    return datetime.date(year, month, min(day.day, last_day))

@@ -18,8 +18,9 @@ import dj_database_url
 from django.core.exceptions import ImproperlyConfigured
 
 from hazards.caution import CAUTION
+from hazards.classes import LASER_CLASSES
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
-from registry.env import env_bool, env_choice, env_int, env_list, env_secret, env_str, env_time_zone
+from registry.env import env_bool, env_choice, env_int, env_list, env_mapping, env_secret, env_str, env_time_zone
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 
@@ -107,6 +108,14 @@ AUTH_PASSWORD_VALIDATORS = [
 # The limit set the register's pages, signs and reports lead with; results under every shipped
 # set are stored, and the pages show the others beside it. Local rules decide which one leads.
 HAZARD_LIMITS = env_choice("BEAMKEEPER_LIMITS", DEFAULT_LIMITS, LIMIT_SETS)
+
+# The signal word a door sign carries, by the highest class in the room (classes left out need
+# no sign). Common practice, no source: caution for 2, 2M and 3R, warning or danger for 3B and
+# 4. Institutions differ, so it is a setting: BEAMKEEPER_SIGNAL_WORDS="2=CAUTION,...,4=DANGER".
+SIGNAL_WORDS = env_mapping("BEAMKEEPER_SIGNAL_WORDS", {"2": "CAUTION", "2M": "CAUTION", "3R": "CAUTION",
+                                                       "3B": "WARNING", "4": "DANGER"}, keys=LASER_CLASSES)
+# A location with a class 3B or 4 laser is due for audit this many months after its last one.
+AUDIT_INTERVAL_MONTHS = env_int("BEAMKEEPER_AUDIT_INTERVAL_MONTHS", 12, minimum=1)
 
 LANGUAGE_CODE = "en"
 TIME_ZONE = env_time_zone("TIME_ZONE", "UTC")

@@ -1,11 +1,14 @@
 """Selectors load what their callers display in a fixed number of queries."""
 from __future__ import annotations
 
+import datetime
+
 import pytest
 from django.db import connection
 from django.test.utils import CaptureQueriesContext
+from django.utils import timezone
 
-from registry.selectors import audit_list, laser_list, location_eyewear_matrix
+from registry.selectors import audit_list, audits_due, laser_list, location_eyewear_matrix, signal_word
 from tests import factories
 
 pytestmark = pytest.mark.django_db
@@ -102,3 +105,54 @@ def test_an_emission_without_a_result_is_listed_as_not_assessed() -> None:
     matrix = location_eyewear_matrix(location=location, limits="icnirp2013")
     assert matrix.not_assessed == [emission]
     assert matrix.emissions == []
+
+
+@pytest.mark.parametrize(("classes", "word"), [
+    (["2", "3R"], "CAUTION"),
+    (["3R", "3B"], "WARNING"),
+    (["3B", "4", "2"], "DANGER"),
+    (["1", "1M"], None),  # no sign needed
+    ([], None),
+])
+def test_the_signal_word_follows_the_highest_class(classes: list[str], word: str | None) -> None:
+    # Default mapping, common practice, no source: caution for 2/2M/3R, warning for 3B, danger for 4.
+    assert signal_word(classes) == word
+
+
+def test_the_signal_words_are_a_setting(settings: object) -> None:
+    settings.SIGNAL_WORDS = {"3B": "DANGER", "4": "DANGER"}  # type: ignore[attr-defined]
+    assert signal_word(["3B"]) == "DANGER"
+    assert signal_word(["3R"]) is None
+
+
+def test_a_room_with_a_class_4_laser_is_due_twelve_months_after_its_last_audit() -> None:
+    today = datetime.date(2026, 12, 2)
+    audited = factories.LaserFactory.create(labelled_class="4").location
+    never = factories.LaserFactory.create(labelled_class="3B").location
+    low_class = factories.LaserFactory.create(labelled_class="2").location
+    recent = factories.LaserFactory.create(labelled_class="4").location
+    factories.AuditFactory.create(scope="location", location=audited, status="signed_off",
+                                  conducted_on=datetime.date(2025, 11, 20), signed_off_at=timezone.now(),
+                                  signed_off_by=factories.PersonFactory.create(role="lso"))
+    factories.AuditFactory.create(scope="location", location=recent, status="signed_off",
+                                  conducted_on=datetime.date(2026, 6, 1), signed_off_at=timezone.now(),
+                                  signed_off_by=factories.PersonFactory.create(role="lso"))
+    planned = factories.AuditFactory.create(scope="location", location=never, status="planned")
+    with CaptureQueriesContext(connection) as queries:
+        due = audits_due(today=today)
+    # locations; audits covering them (site or location scope)
+    assert len(queries) == 2
+    assert [(item.location, item.overdue, item.due_on) for item in due] == [
+        (never, True, None), (audited, True, datetime.date(2026, 11, 20))]
+    assert due[0].planned == planned and due[0].last is None
+    assert low_class not in [item.location for item in due] and recent not in [item.location for item in due]
+    # A month on from the June audit it is not yet within 30 days; late May next year it is.
+    assert recent in [item.location for item in audits_due(today=datetime.date(2027, 5, 10))]
+
+
+def test_a_site_wide_audit_covers_every_room_of_its_site() -> None:
+    location = factories.LaserFactory.create(labelled_class="4").location
+    factories.AuditFactory.create(scope="site", site=location.site, status="signed_off",
+                                  conducted_on=datetime.date(2026, 10, 1), signed_off_at=timezone.now(),
+                                  signed_off_by=factories.PersonFactory.create(role="lso"))
+    assert audits_due(today=datetime.date(2026, 12, 2)) == []

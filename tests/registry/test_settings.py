@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 from django.core.exceptions import ImproperlyConfigured
 
-from registry.env import env_bool, env_choice, env_int, env_list, env_secret, env_str, env_time_zone
+from registry.env import env_bool, env_choice, env_int, env_list, env_mapping, env_secret, env_str, env_time_zone
 
 ROOT = Path(__file__).resolve().parents[2]
 
@@ -106,3 +106,14 @@ def test_a_secret_can_come_from_a_file(monkeypatch: pytest.MonkeyPatch, tmp_path
     monkeypatch.setenv("BK_SECRET", "also-set")
     with pytest.raises(ImproperlyConfigured, match="Set either BK_SECRET or BK_SECRET_FILE, not both."):
         env_secret("BK_SECRET")
+
+
+def test_env_mapping_reads_pairs_and_names_the_variable(monkeypatch: pytest.MonkeyPatch) -> None:
+    keys = ("2", "3B", "4")
+    assert env_mapping("BK_WORDS", {"4": "DANGER"}, keys=keys) == {"4": "DANGER"}
+    monkeypatch.setenv("BK_WORDS", "3B = WARNING, 4=DANGER")
+    assert env_mapping("BK_WORDS", {}, keys=keys) == {"3B": "WARNING", "4": "DANGER"}
+    for bad in ("5=DANGER", "4", "4="):
+        monkeypatch.setenv("BK_WORDS", bad)
+        with pytest.raises(ImproperlyConfigured, match="BK_WORDS"):
+            env_mapping("BK_WORDS", {}, keys=keys)
