@@ -5,6 +5,7 @@ import argparse
 import csv
 import json
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -23,8 +24,9 @@ from hazards.limits import (
     exposure_limit,
     pulse_train_limit,
 )
-from hazards.limits.exposure import check_limits_and_tissue
+from hazards.limits.exposure import LimitRecord, check_limits_and_tissue
 from hazards.limits.limit_set import TISSUES, load_limit_set
+from hazards.limits.pulses import TrainRecord, check_train
 from hazards.units import format_si, parse_quantity
 
 BATCH_COLUMNS = ("wavelength_m", "duration_s", "source_size_rad", "tissue")
@@ -85,12 +87,12 @@ def run(args: argparse.Namespace) -> int:
     else:
         result = exposure_limit(wavelength, duration, tissue=args.tissue, source_size_rad=args.source_size,
                                 limits=args.limits, duration_basis=basis)
-    record = result.to_dict()
-    print(json.dumps(record, indent=2) if args.json else as_text(record))
+    point: Mapping[str, Any] = result.to_dict()
+    print(json.dumps(point, indent=2) if args.json else as_text(point))
     return 0
 
 
-def as_text(record: dict[str, Any]) -> str:
+def as_text(record: Mapping[str, Any]) -> str:
     limit_set = load_limit_set(record["limits"])
     alpha = record["source_size_rad"]
     lines = [
@@ -118,12 +120,17 @@ def as_text(record: dict[str, Any]) -> str:
             f"  source: {record['citation']}",
         ]
         if len(record["candidate_rows"]) > 1:
-            lines.append("  limits that apply here (the lower governs):")
-            lines += [f"    {candidate['mechanism']}, row {candidate['row']}: "
-                      f"H = {candidate['radiant_exposure_J_m2']:.4g} J/m^2" for candidate in record["candidate_rows"]]
+            lines.append("  limits that apply here, each averaged over its own aperture (the lower governs as a "
+                         "lookup; against a beam, the higher exposure / limit ratio):")
+            lines += [f"    {candidate['mechanism']}, {candidate['citation']}: "
+                      f"H = {candidate['radiant_exposure_J_m2']:.4g} J/m^2 over {candidate['aperture_m'] * 1e3:.4g} mm"
+                      for candidate in record["candidate_rows"]]
         if record["field_of_view_rad"] is not None:
             lines.append(f"  measured within a field of view of {record['field_of_view_rad'] * 1e3:.4g} mrad")
     lines.append(f"  averaged over a limiting aperture of {record['aperture_m'] * 1e3:.4g} mm diameter")
+    for option in record.get("options", []):
+        lines.append(f"    {option['rule']}: {option['per_pulse_J_m2']:.4g} J/m^2 over {option['aperture_m'] * 1e3:.4g} mm")
+    lines += [f"Warning: {warning}" for warning in record["warnings"]]
     if record["notes"]:
         lines.append("Notes:")
         lines += [f"  - {note}" for note in record["notes"]]
@@ -170,16 +177,18 @@ def read_batch(path: Path, *, limits: str) -> _BatchColumns:
         columns = _BatchColumns([], [], [], [], [], [])
         ranges = {
             "wavelength_m": ("m", *limit_set.wavelength_range_m),
-            "duration_s": ("s", *limit_set.duration_range_s),
+            # Durations below the tables' first column are assessed at it, with a warning, as everywhere.
+            "duration_s": ("s", 0.0, limit_set.duration_range_s[1]),
             "source_size_rad": ("rad", 0.0, math.pi),
-            "pulse_duration_s": ("s", *limit_set.duration_range_s),
+            "pulse_duration_s": ("s", 0.0, limit_set.duration_range_s[1]),
             "prf_Hz": ("Hz", 0.0, 1e15),
         }
 
         def number(row: dict[str, str | None], column: str, line: int) -> float:
             unit, low, high = ranges[column]
             return parse_quantity((row.get(column) or "").strip(), field=f"{path.name} line {line}, column {column}",
-                                  unit=unit, minimum=low, maximum=high, inclusive_minimum=column != "prf_Hz")
+                                  unit=unit, minimum=low, maximum=high,
+                                  inclusive_minimum=column not in ("prf_Hz", "duration_s", "pulse_duration_s"))
 
         for line, row in enumerate(reader, start=2):
             columns.wavelength.append(number(row, "wavelength_m", line))
@@ -196,21 +205,17 @@ def read_batch(path: Path, *, limits: str) -> _BatchColumns:
                 raise InputError(f"{path.name} line {line}, column {absent}",
                                  "pulse_duration_s and prf_Hz go together; fill both or neither")
             if given[0]:
-                _check_pulse_row(number(row, "pulse_duration_s", line), number(row, "prf_Hz", line),
-                                 columns.duration[-1], where=f"{path.name} line {line}, column pulse_duration_s")
+                try:
+                    check_train(number(row, "pulse_duration_s", line), number(row, "prf_Hz", line),
+                                columns.duration[-1])
+                except InputError as error:
+                    raise InputError(f"{path.name} line {line}, column pulse_duration_s", error.message) from None
             columns.pulse_duration.append(number(row, "pulse_duration_s", line) if given[0] else math.nan)
             columns.prf.append(number(row, "prf_Hz", line) if given[1] else math.nan)
     return columns
 
 
-def _check_pulse_row(pulse_duration: float, prf: float, duration: float, *, where: str) -> None:
-    if pulse_duration * prf >= 1.0:
-        raise InputError(where, f"{pulse_duration:g} s is not shorter than the pulse period 1/prf = {1 / prf:g} s")
-    if pulse_duration > duration:
-        raise InputError(where, f"{pulse_duration:g} s is longer than the exposure duration {duration:g} s")
-
-
-def evaluate_batch(path: Path, *, limits: str) -> list[dict[str, Any]]:
+def evaluate_batch(path: Path, *, limits: str) -> list[LimitRecord | TrainRecord]:
     """Evaluate every CSV row, vectorised per (tissue, pulsed or not), and return them in file order."""
     columns = read_batch(path, limits=limits)
     wavelength = np.array(columns.wavelength)
@@ -220,7 +225,7 @@ def evaluate_batch(path: Path, *, limits: str) -> list[dict[str, Any]]:
     pulse_duration = np.array(columns.pulse_duration)
     prf = np.array(columns.prf)
     pulsed = ~np.isnan(prf)
-    records: list[dict[str, Any]] = [{} for _ in columns.wavelength]
+    records: list[LimitRecord | TrainRecord | None] = [None for _ in columns.wavelength]
     for tissue_name in TISSUES:
         for is_pulsed in (False, True):
             chosen = np.flatnonzero((tissue == tissue_name) & (pulsed == is_pulsed))
@@ -229,11 +234,11 @@ def evaluate_batch(path: Path, *, limits: str) -> list[dict[str, Any]]:
             if is_pulsed:
                 train = pulse_train_limit(wavelength[chosen], duration[chosen], pulse_duration[chosen], prf[chosen],
                                           tissue=tissue_name, source_size_rad=source_size[chosen], limits=limits)
-                for position, index in enumerate(chosen):
+                for position, index in enumerate(chosen.tolist()):
                     records[index] = train.record(position)
             else:
                 result = exposure_limit(wavelength[chosen], duration[chosen], tissue=tissue_name,
                                         source_size_rad=source_size[chosen], limits=limits)
-                for index, record in zip(chosen, result.records()):
+                for index, record in zip(chosen.tolist(), result.records()):
                     records[index] = record
-    return records
+    return [record for record in records if record is not None]

@@ -8,23 +8,30 @@ from __future__ import annotations
 from hazards.limits.exposure import (
     DEFAULT_LIMITS,
     LIMIT_SETS,
+    ApertureLimit,
     ExposureLimit,
     check_limit_set,
     default_exposure_duration,
+    default_exposure_durations,
     exposure_duration_basis,
     exposure_limit,
+    short_duration_warning,
 )
-from hazards.limits.pulses import PULSE_RULES, PulseTrainLimit, pulse_train_limit
+from hazards.limits.pulses import PULSE_RULES, LimitOption, PulseTrainLimit, pulse_train_limit
 
 __all__ = [
     "DEFAULT_LIMITS",
     "LIMIT_SETS",
     "PULSE_RULES",
+    "ApertureLimit",
     "ExposureLimit",
+    "LimitOption",
     "PulseTrainLimit",
     "check_limit_set",
     "default_exposure_duration",
+    "default_exposure_durations",
     "exposure_duration_basis",
     "exposure_limit",
     "pulse_train_limit",
+    "short_duration_warning",
 ]

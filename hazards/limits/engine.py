@@ -56,10 +56,6 @@ class Variables(Mapping[str, FloatArray]):
         """The same inputs at some of the points; factors are computed afresh, for those points only."""
         return Variables(self.limit_set, {name: values[indices] for name, values in self._inputs.items()})
 
-    def computed_factors(self) -> list[str]:
-        """Factor names in the order they were first needed (dependencies come first)."""
-        return list(self.piece_index)
-
 
 def evaluate_factor(factor: Factor, variables: Variables) -> tuple[FloatArray, IndexArray]:
     """The factor's value at every point (NaN where no piece holds) and which piece gave it."""
@@ -133,14 +129,37 @@ class Candidate:
 
 
 @dataclass
+class GroupLowest:
+    """The lowest radiant exposure among the rows averaged over one aperture table (inf, -1 where none holds)."""
+
+    radiant_exposure_J_m2: FloatArray
+    row_index: IndexArray
+
+
+@dataclass
 class Evaluation:
-    """The lower-of-rows result for n points, and what produced it."""
+    """The lower-of-rows result for n points, and what produced it.
+
+    ``groups`` keeps the lowest row per aperture table: limits averaged over different
+    apertures (the retinal limit over 7 mm, a cornea limit over 3.5 mm) cannot be ranked
+    without the beam, so each is kept for the caller to compare exposure against.
+    """
 
     variables: Variables
     radiant_exposure_J_m2: FloatArray
     row_index: IndexArray
     rows: tuple[Row, ...]
+    groups: dict[str, GroupLowest]
     candidates: list[Candidate] = field(default_factory=list)
+
+    def candidates_at(self, point: int) -> list[tuple[Candidate, float]]:
+        """The rows that hold at one point, each with its value there (for that point's working)."""
+        found: list[tuple[Candidate, float]] = []
+        for candidate in self.candidates:
+            position = int(np.searchsorted(candidate.indices, point))
+            if position < candidate.indices.size and candidate.indices[position] == point:
+                found.append((candidate, float(candidate.radiant_exposure_J_m2[position])))
+        return found
 
 
 def evaluate_rows(
@@ -164,6 +183,8 @@ def evaluate_rows(
     size = wavelength_nm.shape[0]
     lowest = np.full(size, np.inf)
     row_index = np.full(size, -1, dtype=np.intp)
+    groups = {table: GroupLowest(np.full(size, np.inf), np.full(size, -1, dtype=np.intp))
+              for table in dict.fromkeys(row.aperture_table(tissue) for row in rows)}
     candidates: list[Candidate] = []
     bands: dict[tuple[str, str], tuple[IndexArray, Variables]] = {}
     for number, row in enumerate(rows):
@@ -185,11 +206,16 @@ def evaluate_rows(
         lower = value < lowest[chosen]
         lowest[chosen[lower]] = value[lower]
         row_index[chosen[lower]] = number
+        group = groups[row.aperture_table(tissue)]
+        lower = value < group.radiant_exposure_J_m2[chosen]
+        group.radiant_exposure_J_m2[chosen[lower]] = value[lower]
+        group.row_index[chosen[lower]] = number
         if keep_candidates:
             candidates.append(Candidate(row=row, indices=chosen, radiant_exposure_J_m2=value))
     return Evaluation(variables=variables, radiant_exposure_J_m2=lowest, row_index=row_index, rows=rows,
-                      candidates=candidates)
+                      groups=groups, candidates=candidates)
 
 
-def evaluate_aperture_mm(limit_set: LimitSet, tissue: str, variables: Variables) -> tuple[FloatArray, IndexArray]:
-    return evaluate_factor(limit_set.apertures[tissue], variables)
+def evaluate_aperture_mm(limit_set: LimitSet, table: str, variables: Variables) -> tuple[FloatArray, IndexArray]:
+    """The aperture diameter (mm) of ``table`` at every point, and which piece gave it."""
+    return evaluate_factor(limit_set.apertures[table], variables)

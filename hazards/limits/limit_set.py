@@ -6,7 +6,9 @@ A limit set file (``hazards/limits/data/<name>.toml``) holds
 * ``[factors.<NAME>]`` arrays of pieces (``when`` conditions, ``value`` formula, ``source``):
   the correction factors and parameters (C_A, C_E, T_2, alpha_max, gamma ...), evaluated in
   the order they are needed;
-* ``[apertures.<tissue>]`` pieces giving the limiting aperture diameter in mm;
+* ``[apertures.<table>]`` pieces giving the limiting aperture diameter in mm: one table per
+  tissue, and further tables that rows name with ``aperture = { eye = "<table>" }`` where a
+  second limit for the same tissue is averaged differently;
 * ``[pulse_trains]``: the grouping time factor and the exponent of C_P = N^exponent;
 * ``[[rows]]``: one row of the published table each: tissues, mechanism, ``when`` conditions
   (wavelength_nm, t, alpha_mrad as interval strings such as "[400, 700]", "[10, T2)", whose
@@ -106,6 +108,11 @@ class Row:
     citation: str
     status: str
     note: str
+    apertures: dict[str, str]
+
+    def aperture_table(self, tissue: str) -> str:
+        """The limiting-aperture table this row is averaged over for ``tissue`` (the tissue's own by default)."""
+        return self.apertures.get(tissue, tissue)
 
     @property
     def names(self) -> frozenset[str]:
@@ -138,6 +145,18 @@ class LimitSet:
     apertures: dict[str, Factor]
     rows: tuple[Row, ...]
     pulse_trains: PulseTrainRules
+
+    @property
+    def wavelength_edges_m(self) -> tuple[float, ...]:
+        """Every wavelength at which a row, a factor or an aperture of the set changes, inside its range."""
+        conditions = [condition for row in self.rows for condition in row.conditions]
+        conditions += [condition for table in (*self.factors.values(), *self.apertures.values())
+                       for piece in table.pieces for condition in piece.conditions]
+        edges = {bound * 1e-9 for condition in conditions if condition.variable == "wavelength_nm"
+                 for bound in (condition.interval.lower, condition.interval.upper)
+                 if isinstance(bound, float) and math.isfinite(bound)}
+        low, high = self.wavelength_range_m
+        return tuple(sorted(edge for edge in edges if low * (1 + 1e-9) < edge < high * (1 - 1e-9)))
 
 
 def parse_interval(text: str) -> Interval:
@@ -241,12 +260,16 @@ def _row(raw: dict[str, Any]) -> Row:
     conditions = _conditions(raw["when"], where)
     if not conditions or conditions[0].variable != "wavelength_nm":
         raise LimitSetError(f"{where}: 'when' must start with the wavelength_nm band")
+    apertures = raw.get("aperture", {})
+    if not isinstance(apertures, dict) or not set(apertures) <= set(tissues):
+        raise LimitSetError(f"{where}: 'aperture' must map some of its tissues {tissues} to an aperture table")
     return Row(id=str(raw["id"]), tissues=tissues, mechanism=str(raw["mechanism"]),
                conditions=conditions, quantity=quantity,
                expression=_formula(raw["expression"], where),
                pulse_reduction=bool(raw.get("pulse_reduction", False)),
                field_of_view=raw.get("field_of_view"), citation=str(raw["citation"]),
-               status=_status(raw.get("status", "read"), where), note=str(raw.get("note", "")))
+               status=_status(raw.get("status", "read"), where), note=str(raw.get("note", "")),
+               apertures={str(tissue): str(table) for tissue, table in apertures.items()})
 
 
 def _check_names(limit_set: LimitSet, origin: str) -> None:
@@ -260,6 +283,11 @@ def _check_names(limit_set: LimitSet, origin: str) -> None:
         unknown = names - known
         if unknown:
             raise LimitSetError(f"{origin}: {where} uses unknown names {sorted(unknown)}")
+    for row in limit_set.rows:
+        for tissue in row.tissues:
+            if row.aperture_table(tissue) not in limit_set.apertures:
+                raise LimitSetError(f"{origin}: row {row.id} is averaged over aperture table "
+                                    f"{row.aperture_table(tissue)!r}, which the file does not define")
 
 
 def available_limit_sets() -> tuple[str, ...]:

@@ -111,7 +111,7 @@ def test_the_working_shows_every_rule_and_the_governing_one() -> None:
     ("1 ms", "-5 Hz", 10.0, "prf", "out of range"),
     ("1 ms", "5 m", 10.0, "prf", "is not a"),
     ("20 ms", "10 Hz", 0.01, "pulse_duration", "longer than the exposure duration"),
-    ("1e-14 s", "10 Hz", 10.0, "pulse_duration", "out of range"),
+    ("0 s", "10 Hz", 10.0, "pulse_duration", "out of range"),
 ])
 def test_it_rejects_impossible_trains(pulse_duration: str, prf: str, exposure: float, field: str,
                                       message: str) -> None:
@@ -167,3 +167,16 @@ def test_the_aperture_follows_the_governing_rule() -> None:
     # ICNIRP 2013 limiting apertures, 400-1400 nm: 7 mm whatever the duration
     single = pulse_train_limit(1064e-9, 10.0, 10e-9, 10.0)
     assert float(single.aperture_m) == pytest.approx(7e-3)
+
+
+def test_a_pulse_shorter_than_the_tables_is_assessed_at_their_first_column_and_says_so() -> None:
+    # ICNIRP 2013 and 2006/25/EC Annex II start their duration columns at 100 fs (10^-13 s); a 35 fs
+    # Ti:sapphire pulse is assessed with the 100 fs limits (from memory: the tables hold them to that edge).
+    short = pulse_train_limit(800e-9, 10.0, "35 fs", "80 MHz")
+    tabulated = pulse_train_limit(800e-9, 10.0, "100 fs", "80 MHz")
+    assert float(short.per_pulse_J_m2) == float(tabulated.per_pulse_J_m2)
+    assert float(short.pulse_duration_s) == pytest.approx(1e-13)
+    [warning] = short.warnings_at(0)
+    assert "35 fs" in warning and "100 fs" in warning
+    assert tabulated.warnings_at(0) == []
+    assert short.to_dict()["warnings"] == [warning]
