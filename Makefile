@@ -37,6 +37,7 @@ typecheck: install-test
 
 bench: install-test
 	$(BIN)/python bench/limits.py
+	$(BIN)/python bench/assess.py
 	$(BIN)/python bench/api.py
 
 clean:

@@ -5,4 +5,4 @@ records onto these functions and stores what they return.
 """
 from __future__ import annotations
 
-ENGINE_VERSION = "0.1.0"
+ENGINE_VERSION = "0.2.0"

@@ -3,190 +3,176 @@
 Every function takes the emitted amount (power in W against an irradiance limit in W/m^2,
 or one pulse's energy in J against a radiant-exposure limit in J/m^2) and the limit itself,
 so the figures can be checked by hand without the limits engine. Diameters and divergences
-are 1/e values (see hazards.beam). A hazard that never ends (a collimated beam above the
-limit) is reported as ``unbounded`` with ``distance_m = None``, never as infinity.
+are 1/e values (see hazards.beam). Inputs are floats or numpy arrays and broadcast; the
+results keep the intermediate figures, from which ``*_steps`` write the working of one point.
+
+The exposure at a distance r is hazards.beam.averaged_exposure at the beam diameter there,
+d(r) = sqrt(a^2 + (phi r)^2): the amount over the larger of the beam's area and the limiting
+aperture's. It exceeds the limit L exactly while max(d(r), D_ap) < d_c = sqrt(4 X / (pi L)),
+so the distance is sqrt(d_c^2 - a^2) / phi when the exposure at the exit exceeds L, and 0
+otherwise. A hazard that never ends (a collimated beam above the limit) is ``unbounded``
+with a NaN distance, never infinity.
 """
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field
-from typing import Literal
+from dataclasses import dataclass
 
-from hazards.beam import circle_area
-from hazards.working import Working
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
-GrowthForm = Literal["quadrature", "linear"]
+from hazards.beam import FloatArray, averaged_exposure
+from hazards.working import Step
+
+BoolArray = NDArray[np.bool_]
 
 # Glass and fused-silica optics transmit roughly from the UV-B edge to the mid infrared; only there
 # can binoculars or telescopes gather more of a beam into the eye.
 OPTICAL_AID_BAND_M = (302.5e-9, 4000e-9)
+# The collecting aperture of IEC 60825-1 measurement condition 1 (binoculars, telescopes): 50 mm,
+# and 25 mm in 302.5-400 nm and 1400-4000 nm where such optics transmit less (from memory).
+CONDITION_1_APERTURE_M = 50e-3
+CONDITION_1_APERTURE_UV_IR_M = 25e-3
+_CONDITION_1_FULL_BAND_M = (400e-9, 1400e-9)
+# What reaches the retina through a viewing instrument is bounded by the eye's own pupil (and
+# by the instrument's exit pupil, which a 7x50 binocular matches): the gain is (D_o / 7 mm)^2.
+EYE_PUPIL_M = 7e-3
 # Multimode fibre: the data-sheet NA marks the far-field edge, not the 1/e half angle; guidance
 # divides by 1.7 to get the 1/e half-angle (ANSI Z136.2 fibre NOHD form, from memory).
 FIBRE_NA_PER_ONE_OVER_E_HALF_ANGLE = 1.7
 
 
 @dataclass(frozen=True)
-class HazardDistance:
-    """A hazard distance in metres, or ``unbounded``; ``alternatives`` holds the other forms."""
+class Reach:
+    """Hazard distances (m) of a beam against one limit, with the figures behind them.
 
-    distance_m: float | None
-    unbounded: bool
-    form: str
-    alternatives: dict[str, float | None] = field(default_factory=dict)
-    working: Working = field(default_factory=Working)
-
-
-def critical_diameter(amount: float, limit: float) -> float:
-    """Diameter over which ``amount`` spread evenly meets ``limit``: sqrt(4 X / (pi L))."""
-    return math.sqrt(4.0 * amount / (math.pi * limit))
-
-
-def _check_positive(amount: float, limit: float) -> None:
-    if not (amount > 0 and math.isfinite(amount)):
-        raise ValueError(f"amount must be a positive finite number, got {amount!r}")
-    if not (limit > 0 and math.isfinite(limit)):
-        raise ValueError(f"limit must be a positive finite number, got {limit!r}")
-
-
-def nohd(amount: float, limit: float, beam_diameter_m: float, divergence_rad: float, aperture_m: float,
-         *, form: GrowthForm | None = None, what: str = "NOHD") -> HazardDistance:
-    """Nominal ocular hazard distance of a Gaussian beam (1/e diameter a, 1/e full angle phi).
-
-    quadrature: r = sqrt(d_c^2 - a^2) / phi; linear: r = (d_c - a) / phi, with
-    d_c = sqrt(4 X / (pi L)). With ``form=None`` both are computed and the longer (the
-    quadrature form, since sqrt(d^2 - a^2) >= d - a for d >= a) is reported.
-
-    The exposure counts the whole beam over max(beam area, aperture area): a beam narrower
-    than the limiting aperture enters it whole, a wider one is compared at its peak, which is
-    never below the share that passes the aperture. So the distance is 0 when d_c is not
-    larger than both the exit diameter and the aperture.
+    ``distance_m`` is the quadrature (longer) form, NaN where ``unbounded``; ``linear_m`` is
+    the linear-growth form beside it. ``ratio`` is the exposure at the exit over the limit.
     """
-    _check_positive(amount, limit)
-    working = Working()
-    d_c = critical_diameter(amount, limit)
-    working.add(f"{what}: critical diameter", "d_c = sqrt(4 X / (pi L))", d_c, "m",
-                "IEC TR 60825-14 / ANSI Z136.1 App. B beam-hazard form", X=amount, L=limit)
-    if d_c <= aperture_m or d_c <= beam_diameter_m:
-        reason = ("the whole beam over the limiting aperture is at or below the limit"
-                  if d_c <= aperture_m else "the beam leaves the exit already at or below the limit")
-        working.add(f"{what}: no hazard beyond the exit", reason, 0.0, "m", "",
-                    d_c=d_c, a=beam_diameter_m, D_ap=aperture_m)
-        return HazardDistance(0.0, False, form or "quadrature", {"quadrature": 0.0, "linear": 0.0}, working)
+
+    amount: FloatArray
+    limit: FloatArray
+    exit_diameter_m: FloatArray
+    divergence_rad: FloatArray
+    aperture_m: FloatArray
+    ratio: FloatArray
+    critical_diameter_m: FloatArray
+    distance_m: FloatArray
+    linear_m: FloatArray
+    unbounded: BoolArray
+
+
+def reach(amount: ArrayLike, limit: ArrayLike, exit_diameter_m: ArrayLike, divergence_rad: ArrayLike,
+          aperture_m: ArrayLike) -> Reach:
+    """Nominal hazard distance of a Gaussian beam (1/e diameter a at the exit, 1/e full angle phi).
+
+    NaN inputs (a limit that does not apply) give NaN figures, never a hazard.
+    """
+    arrays = np.broadcast_arrays(*(np.asarray(value, dtype=np.float64)
+                                   for value in (amount, limit, exit_diameter_m, divergence_rad, aperture_m)))
+    amount_, limit_, exit_, phi, aperture = arrays
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        ratio = averaged_exposure(amount_, exit_, aperture) / limit_
+        # d_c = sqrt(4 X / (pi L)), written through the ratio so that the distance is above zero
+        # exactly when the exposure at the exit exceeds the limit, to the last bit.
+        critical = np.maximum(exit_, aperture) * np.sqrt(ratio)
+        above = ratio > 1.0
+        # No hazard beyond the exit is 0; a limit that does not apply (NaN) leaves NaN.
+        below = np.where(np.isnan(ratio), np.nan, 0.0)
+        quadrature = np.where(above, np.sqrt(np.maximum(critical**2 - exit_**2, 0.0)) / phi, below)
+        linear = np.where(above, np.maximum(critical - exit_, 0.0) / phi, below)
     # A divergence so small that d_c / phi overflows is collimated for every practical purpose.
-    if divergence_rad == 0 or not math.isfinite(d_c / divergence_rad):
-        working.add(f"{what}: collimated beam", "phi = 0 and d_c > a: the limit is exceeded at any range",
-                    "unbounded", "", "", d_c=d_c, a=beam_diameter_m)
-        return HazardDistance(None, True, form or "quadrature", {"quadrature": None, "linear": None}, working)
-    quadrature = math.sqrt(d_c**2 - beam_diameter_m**2) / divergence_rad
-    linear = (d_c - beam_diameter_m) / divergence_rad
-    working.add(f"{what}: quadrature growth", "r = sqrt(d_c^2 - a^2) / phi", quadrature, "m",
-                "beam growth d(r) = sqrt(a^2 + (phi r)^2)", d_c=d_c, a=beam_diameter_m, phi=divergence_rad)
-    working.add(f"{what}: linear growth", "r = (d_c - a) / phi", linear, "m",
-                "beam growth d(r) = a + phi r", d_c=d_c, a=beam_diameter_m, phi=divergence_rad)
-    chosen: GrowthForm = form or ("quadrature" if quadrature >= linear else "linear")
-    distance = quadrature if chosen == "quadrature" else linear
-    working.add(f"{what}: reported", f"{chosen} form" + (" (the more conservative)" if form is None else ""),
-                distance, "m")
-    return HazardDistance(distance, False, chosen, {"quadrature": quadrature, "linear": linear}, working)
+    unbounded = above & ~np.isfinite(quadrature)
+    return Reach(amount=amount_, limit=limit_, exit_diameter_m=exit_, divergence_rad=phi, aperture_m=aperture,
+                 ratio=ratio, critical_diameter_m=critical, distance_m=np.where(unbounded, np.nan, quadrature),
+                 linear_m=np.where(unbounded, np.nan, linear), unbounded=unbounded)
 
 
-def diffuse_hazard_distance(amount: float, limit: float, reflectance: float, viewing_angle_rad: float,
-                            ) -> HazardDistance:
+def reach_steps(result: Reach, index: int, what: str) -> list[Step]:
+    """The working of one point of ``result``: critical diameter, then the distance or why there is none."""
+    def at(array: FloatArray) -> float:
+        return float(array.reshape(-1)[index])
+
+    amount, limit, exit_, phi, aperture = (at(result.amount), at(result.limit), at(result.exit_diameter_m),
+                                           at(result.divergence_rad), at(result.aperture_m))
+    critical = at(result.critical_diameter_m)
+    steps = [Step(f"{what}: critical diameter", "d_c = sqrt(4 X / (pi L))", critical, "m",
+                  "IEC TR 60825-14 / ANSI Z136.1 App. B beam-hazard form", {"X": amount, "L": limit})]
+    if not at(result.ratio) > 1.0:
+        reason = ("the exposure at the exit, X over the larger of the beam and aperture areas, is at or below "
+                  "the limit")
+        steps.append(Step(f"{what}: no hazard beyond the exit", reason, 0.0, "m", "",
+                          {"d_c": critical, "a": exit_, "D_ap": aperture}))
+    elif bool(result.unbounded.reshape(-1)[index]):
+        steps.append(Step(f"{what}: collimated beam", "phi = 0 and d_c > max(a, D_ap): the limit is exceeded at "
+                          "any range", "unbounded", "", "", {"d_c": critical, "a": exit_}))
+    else:
+        steps.append(Step(f"{what}: quadrature growth (reported)", "r = sqrt(d_c^2 - a^2) / phi", at(result.distance_m),
+                          "m", "beam growth d(r) = sqrt(a^2 + (phi r)^2)", {"d_c": critical, "a": exit_, "phi": phi}))
+        steps.append(Step(f"{what}: linear growth", "r = (d_c - a) / phi", at(result.linear_m), "m",
+                          "beam growth d(r) = a + phi r", {"d_c": critical, "a": exit_, "phi": phi}))
+    return steps
+
+
+def diffuse_reach(amount: ArrayLike, limit: ArrayLike, reflectance: ArrayLike,
+                  viewing_angle_rad: ArrayLike) -> FloatArray:
     """Distance from a Lambertian spot inside which the reflected exposure exceeds ``limit``.
 
     A Lambertian surface returns E(r) = rho X cos(theta) / (pi r^2) at distance r and angle
     theta from its normal, so r = sqrt(rho X cos(theta) / (pi L)). The spot is treated as a
     point source (no extended-source relief), which is the conservative reading.
     """
-    _check_positive(amount, limit)
-    if not 0.0 <= reflectance <= 1.0:
-        raise ValueError(f"reflectance must be within 0..1, got {reflectance!r}")
-    working = Working()
-    cosine = max(0.0, math.cos(viewing_angle_rad))
-    distance = math.sqrt(reflectance * amount * cosine / (math.pi * limit))
-    working.add("diffuse reflection hazard distance", "r = sqrt(rho X cos(theta) / (pi L))", distance, "m",
-                "Lambertian reflector, IEC TR 60825-14 / ANSI Z136.1 App. B diffuse form",
-                rho=reflectance, X=amount, theta=viewing_angle_rad, L=limit)
-    return HazardDistance(distance, False, "lambertian", {}, working)
+    cosine = np.maximum(0.0, np.cos(np.asarray(viewing_angle_rad, dtype=np.float64)))
+    with np.errstate(invalid="ignore"):
+        distance: FloatArray = np.sqrt(np.asarray(reflectance) * np.asarray(amount) * cosine
+                                       / (np.pi * np.asarray(limit, dtype=np.float64)))
+    return distance
 
 
-def focused_beam_nohd(amount: float, limit: float, lens_beam_diameter_m: float, focal_length_m: float,
-                      aperture_m: float) -> HazardDistance:
-    """NOHD beyond a lens on the laser, measured from the focal point.
-
-    Past the focus the beam spreads with full angle phi = b / f (b the 1/e diameter at the lens),
-    from a waist much smaller than the pupil, so r = (f / b) sqrt(4 X / (pi L)).
-    """
-    if not (lens_beam_diameter_m > 0 and focal_length_m > 0):
-        raise ValueError("lens beam diameter and focal length must be positive")
-    divergence = lens_beam_diameter_m / focal_length_m
-    working = Working()
-    working.add("focused-beam NOHD: divergence after the focus", "phi = b / f", divergence, "rad",
-                "thin lens, waist << pupil", b=lens_beam_diameter_m, f=focal_length_m)
-    return _with_steps_first(working, nohd(amount, limit, 0.0, divergence, aperture_m, what="focused-beam NOHD"))
+def diffuse_steps(amount: float, limit: float, reflectance: float, viewing_angle_rad: float,
+                  distance_m: float) -> list[Step]:
+    return [Step("diffuse reflection hazard distance", "r = sqrt(rho X cos(theta) / (pi L))", distance_m, "m",
+                 "Lambertian reflector, IEC TR 60825-14 / ANSI Z136.1 App. B diffuse form",
+                 {"rho": reflectance, "X": amount, "theta": viewing_angle_rad, "L": limit})]
 
 
-def _with_steps_first(working: Working, result: HazardDistance) -> HazardDistance:
-    working.extend(result.working)
-    return HazardDistance(result.distance_m, result.unbounded, result.form, dict(result.alternatives), working)
+def focused_divergence(lens_beam_diameter_m: ArrayLike, focal_length_m: ArrayLike) -> FloatArray:
+    """Past a lens's focus the beam spreads with full angle phi = b / f from a waist far smaller than the pupil."""
+    return np.asarray(lens_beam_diameter_m, dtype=np.float64) / np.asarray(focal_length_m, dtype=np.float64)
 
 
-def fibre_nohd(amount: float, limit: float, numerical_aperture: float, core_diameter_m: float,
-               aperture_m: float) -> HazardDistance:
-    """NOHD from the end of a multimode fibre of numerical aperture NA and core diameter a.
-
-    The beam leaves the core (1/e diameter taken as the core) with 1/e full angle
-    phi = 2 NA / 1.7, after which the beam formula applies; with a -> 0 it is the
-    published r = (1.7 / NA) sqrt(P / (pi MPE)).
-    """
-    if not 0.0 < numerical_aperture < 1.0:
-        raise ValueError(f"numerical aperture must be within 0..1, got {numerical_aperture!r}")
-    divergence = 2.0 * numerical_aperture / FIBRE_NA_PER_ONE_OVER_E_HALF_ANGLE
-    working = Working()
-    working.add("fibre NOHD: 1/e full angle from NA", "phi = 2 NA / 1.7", divergence, "rad",
-                "multimode fibre form, ANSI Z136.2 (from memory)", NA=numerical_aperture)
-    return _with_steps_first(working, nohd(amount, limit, core_diameter_m, divergence, aperture_m,
-                                           what="fibre NOHD"))
+def fibre_divergence(numerical_aperture: ArrayLike) -> FloatArray:
+    """1/e full angle of the beam leaving a multimode fibre: 2 NA / 1.7 (the data-sheet NA marks the edge)."""
+    return 2.0 * np.asarray(numerical_aperture, dtype=np.float64) / FIBRE_NA_PER_ONE_OVER_E_HALF_ANGLE
 
 
-def optical_aid_nohd(amount: float, limit: float, beam_diameter_m: float, divergence_rad: float,
-                     aperture_m: float, *, objective_diameter_m: float, transmission: float,
-                     wavelength_m: float) -> HazardDistance:
-    """Extended NOHD for a person looking into the beam through binoculars or a telescope.
+def condition_1_aperture(wavelength_m: ArrayLike) -> FloatArray:
+    """The collecting aperture of measurement condition 1 for each wavelength (NaN where optics do not transmit)."""
+    wavelength = np.asarray(wavelength_m, dtype=np.float64)
+    full = (wavelength >= _CONDITION_1_FULL_BAND_M[0]) & (wavelength <= _CONDITION_1_FULL_BAND_M[1])
+    transmits = (wavelength >= OPTICAL_AID_BAND_M[0]) & (wavelength <= OPTICAL_AID_BAND_M[1])
+    return np.where(full, CONDITION_1_APERTURE_M, np.where(transmits, CONDITION_1_APERTURE_UV_IR_M, np.nan))
+
+
+def optical_aid_reach(amount: ArrayLike, limit: ArrayLike, exit_diameter_m: ArrayLike, divergence_rad: ArrayLike,
+                      aperture_m: ArrayLike, *, objective_diameter_m: ArrayLike, transmission: ArrayLike) -> Reach:
+    """The hazard distance for a person looking into the beam through binoculars or a telescope.
 
     The objective (diameter D_o, transmission tau) gathers the beam over its own area and
-    delivers it through an exit pupil no larger than the eye's, so the eye receives
-    tau X (D_o / d)^2 while the beam is wider than the objective. Setting that equal to
-    L times the aperture area gives the critical diameter sqrt(tau) (D_o / D_ap) d_c. The
-    result is never shorter than the unaided NOHD; outside 302.5-4000 nm optics do not
-    transmit and the unaided NOHD is returned.
+    delivers it through an exit pupil no larger than the eye's 7 mm pupil: a beam wider than the
+    objective reaches the eye with tau (D_o / 7 mm)^2 times the exposure (about 51 times for a
+    7x50 binocular), as if its diameter were shrunk by m = D_o / 7 mm. So the aided distance is
+    the beam formula for tau X, a / m and phi / m against the same limit and aperture. An
+    objective of NaN (optics do not transmit at the wavelength) gives NaN and no hazard.
     """
-    if not (objective_diameter_m > 0 and 0.0 < transmission <= 1.0):
-        raise ValueError("objective diameter must be positive and transmission within (0, 1]")
-    unaided = nohd(amount, limit, beam_diameter_m, divergence_rad, aperture_m, what="NOHD (unaided)")
-    working = Working()
-    low, high = OPTICAL_AID_BAND_M
-    if not low <= wavelength_m <= high:
-        working.add("optical-aid NOHD", "outside 302.5-4000 nm viewing optics do not transmit; unaided NOHD",
-                    unaided.distance_m if not unaided.unbounded else "unbounded", "m", "", lambda_m=wavelength_m)
-        return HazardDistance(unaided.distance_m, unaided.unbounded, unaided.form, dict(unaided.alternatives),
-                              working)
-    gain = transmission * (objective_diameter_m / aperture_m) ** 2
-    working.add("optical-aid NOHD: collecting gain", "K = tau (D_o / D_ap)^2", gain, "",
-                "magnifying optics gather the beam over the objective (from memory; IEC TR 60825-14)",
-                tau=transmission, D_o=objective_diameter_m, D_ap=aperture_m)
-    if transmission * amount <= limit * circle_area(aperture_m):
-        working.add("optical-aid NOHD: whole beam through the optics", "tau X <= L A_ap: no extra hazard",
-                    "unaided NOHD", "")
-        aided = unaided
-    else:
-        aided = nohd(gain * amount, limit, beam_diameter_m, divergence_rad, aperture_m,
-                     what="NOHD (with optics)")
-        working.extend(aided.working)
-    if aided.unbounded or unaided.unbounded:
-        return HazardDistance(None, True, aided.form, {"quadrature": None, "linear": None}, working)
-    assert aided.distance_m is not None and unaided.distance_m is not None
-    if aided.distance_m < unaided.distance_m:
-        working.add("optical-aid NOHD", "optics gather less than the eye: unaided NOHD", unaided.distance_m, "m")
-        return HazardDistance(unaided.distance_m, False, unaided.form, dict(unaided.alternatives), working)
-    return HazardDistance(aided.distance_m, False, aided.form, dict(aided.alternatives), working)
+    magnification = np.asarray(objective_diameter_m, dtype=np.float64) / EYE_PUPIL_M
+    return reach(np.asarray(transmission) * np.asarray(amount), limit,
+                 np.asarray(exit_diameter_m) / magnification, np.asarray(divergence_rad) / magnification, aperture_m)
+
+
+def optical_aid_gain(objective_diameter_m: float, transmission: float) -> Step:
+    """The working step that states the collecting gain of the viewing optics."""
+    return Step("optical aids: collecting gain", "K = tau (D_o / D_eye)^2", transmission *
+                (objective_diameter_m / EYE_PUPIL_M) ** 2, "",
+                "gathered over the objective, delivered through a pupil no larger than the eye's (IEC TR 60825-14; "
+                "condition 1 aperture of IEC 60825-1, from memory)",
+                {"tau": transmission, "D_o": objective_diameter_m, "D_eye": EYE_PUPIL_M})

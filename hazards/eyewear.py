@@ -9,10 +9,13 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal, TypedDict
 
-from hazards.beam import circle_area, peak_over_area
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from hazards.beam import FloatArray, peak_over_area
 from hazards.errors import InputError
 from hazards.units import bounded_text
 from hazards.working import Working
@@ -21,6 +24,7 @@ from hazards.working import Working
 # (1e-9 of a decade is far below any measured input) must not be pushed one step higher.
 _ROUNDING_SLACK = 1e-9
 
+BoolArray = NDArray[np.bool_]
 Condition = Literal["D", "I", "R", "M"]
 _CONDITIONS: tuple[Condition, ...] = ("D", "I", "R", "M")
 
@@ -33,11 +37,9 @@ _Q_SWITCHED_FROM_S = 1e-9
 # 180-315 nm, >315-1400 nm, >1400 nm-1 mm. Quantity "E" is W/m^2, "H" is J/m^2.
 # DGUV 203-042 section 5.1 / EN 207 Table B.2; the n = 0 values equal the simplified
 # exposure limits of DGUV 203-042 Annex 6, a cross-check of the transcription.
-_LB_BASE: dict[tuple[str, int], tuple[float, str]] = {
-    ("D", 0): (1e-3, "E"), ("D", 1): (1e1, "E"), ("D", 2): (1e3, "E"),
-    ("IR", 0): (3e1, "H"), ("IR", 1): (5e-3, "H"), ("IR", 2): (1e2, "H"),
-    ("M", 0): (3e10, "E"), ("M", 1): (1.5e-4, "H"), ("M", 2): (1e11, "E"),
-}
+# Rows: D, I and R, M; columns: the three bands.
+_LB_BASE_VALUES = np.array([[1e-3, 1e1, 1e3], [3e1, 5e-3, 1e2], [3e10, 1.5e-4, 1e11]])
+_LB_BASE_QUANTITIES = np.array([["E", "E", "E"], ["H", "H", "H"], ["E", "H", "E"]])
 LB_MAX = 10
 
 # Pulse grouping time T_i for the N^(1/4) correction (DGUV 203-042 section 5.3). Which
@@ -54,53 +56,102 @@ _PULSE_GROUPING_S: tuple[tuple[float, float, float], ...] = (
 _TRAIN_WINDOW_S = 5.0  # EN 207 stability test: 5 s or 50 pulses; N counts pulses in 5 s
 
 
-def optical_density(exposure: float, limit: float) -> tuple[float, int]:
-    """(exact, required): OD = log10(exposure / limit) and its value rounded up, never below 0.
+def optical_density(ratio: ArrayLike) -> tuple[FloatArray, FloatArray]:
+    """(exact, required) from exposure / limit: OD = log10(ratio) and its value rounded up, never below 0.
 
-    ``exposure`` is the irradiance or radiant exposure averaged over the limiting aperture at
-    the worst reachable position, ``limit`` the MPE in the same quantity and duration.
+    The exposure is the irradiance or radiant exposure averaged over the limiting aperture at the
+    worst reachable position (the exit), the limit the MPE in the same quantity and duration.
     """
-    if not (exposure > 0 and limit > 0):
-        raise ValueError("exposure and limit must be positive")
-    exact = math.log10(exposure / limit)
-    return exact, max(0, math.ceil(exact - _ROUNDING_SLACK))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        exact = np.log10(np.asarray(ratio, dtype=np.float64))
+    return exact, np.maximum(0.0, np.ceil(exact - _ROUNDING_SLACK))
+
+
+def en207_conditions(pulse_duration_s: ArrayLike) -> NDArray[np.str_]:
+    """EN 207 test condition from the pulse duration (NaN: continuous): D (> 0.25 s), I, R, M."""
+    duration = np.asarray(pulse_duration_s, dtype=np.float64)
+    return np.select([~(duration <= _CONTINUOUS_ABOVE_S), duration > _LONG_PULSE_ABOVE_S,
+                      duration >= _Q_SWITCHED_FROM_S], ["D", "I", "R"], "M")
 
 
 def en207_condition(pulse_duration_s: float | None) -> Condition:
-    """EN 207 test condition from the pulse duration: D (> 0.25 s or continuous), I, R, M."""
-    if pulse_duration_s is None or pulse_duration_s > _CONTINUOUS_ABOVE_S:
-        return "D"
-    if pulse_duration_s > _LONG_PULSE_ABOVE_S:
-        return "I"
-    if pulse_duration_s >= _Q_SWITCHED_FROM_S:
-        return "R"
-    return "M"
+    """The test condition of one emission (None: continuous)."""
+    return en207_condition_letter(str(en207_conditions(np.nan if pulse_duration_s is None else pulse_duration_s)))
 
 
-def en207_band(wavelength_m: float) -> int:
+def en207_bands(wavelength_m: ArrayLike) -> NDArray[np.intp]:
     """0 for 180-315 nm, 1 for >315-1400 nm, 2 for >1400 nm (EN 207 band edges)."""
-    if wavelength_m <= 315e-9:
-        return 0
-    if wavelength_m <= 1400e-9:
-        return 1
-    return 2
+    wavelength = np.asarray(wavelength_m, dtype=np.float64)
+    return np.where(wavelength <= 315e-9, 0, np.where(wavelength <= 1400e-9, 1, 2)).astype(np.intp)
+
+
+def _columns(conditions: NDArray[np.str_]) -> NDArray[np.intp]:
+    return np.where(conditions == "D", 0, np.where(conditions == "M", 2, 1)).astype(np.intp)
+
+
+def lb_bases(conditions: ArrayLike, wavelength_m: ArrayLike) -> tuple[FloatArray, NDArray[np.str_]]:
+    """The LB0 figure (value, "E" in W/m^2 or "H" in J/m^2) for each condition letter and wavelength."""
+    column, band = _columns(np.asarray(conditions)), en207_bands(wavelength_m)
+    return _LB_BASE_VALUES[column, band], _LB_BASE_QUANTITIES[column, band]
 
 
 def lb_limit(condition: Condition, wavelength_m: float, scale_number: int) -> tuple[float, str]:
     """The LBn limit (value, "E" in W/m^2 or "H" in J/m^2) for a condition and wavelength."""
-    base, quantity = _LB_BASE[(_column(condition), en207_band(wavelength_m))]
-    return base * 10.0**scale_number, quantity
+    base, quantity = lb_bases(condition, wavelength_m)
+    return float(base) * 10.0**scale_number, str(quantity)
 
 
-def _column(condition: Condition) -> str:
-    return "IR" if condition in ("I", "R") else condition
+def scale_numbers(conditions: ArrayLike, wavelength_m: ArrayLike, density: ArrayLike) -> tuple[FloatArray, BoolArray]:
+    """(smallest n >= 1 with density <= LBn limit, whether eyewear needs a rating at all: n >= 1 unrounded)."""
+    base, _quantity = lb_bases(conditions, wavelength_m)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        exact = np.ceil(np.log10(np.asarray(density) / base) - _ROUNDING_SLACK)
+    return np.maximum(1.0, exact), exact >= 1
 
 
-def pulse_grouping_time(wavelength_m: float) -> float | None:
+def pulse_grouping_times(wavelength_m: ArrayLike) -> FloatArray:
+    """T_i of the N^(1/4) rule for each wavelength (NaN below 400 nm)."""
+    wavelength = np.asarray(wavelength_m, dtype=np.float64)
+    result = np.full(wavelength.shape, np.nan)
     for low, high, grouping in _PULSE_GROUPING_S:
-        if low <= wavelength_m < high or (high == 1e-3 and wavelength_m == high):
-            return grouping
-    return None
+        result = np.where((wavelength >= low) & ((wavelength < high) | ((high == 1e-3) & (wavelength == high))),
+                          grouping, result)
+    return result
+
+
+@dataclass(frozen=True)
+class TrainFactors:
+    """The EN 207 multiplier of one pulse's energy density for a train (DGUV 203-042 section 5.3).
+
+    ``case`` is "none" (not applied: needs 400 nm - 1 mm, t < 0.25 s, prf > 1 Hz), "a" (pulses
+    further apart than T_i: N^(1/4), N = prf x 5 s) or "b" (pulses within T_i summed and counted
+    as one: (prf T_i) (5 s / T_i)^(1/4)).
+    """
+
+    factor: FloatArray
+    case: NDArray[np.str_]
+    grouping_time_s: FloatArray
+    pulses: FloatArray
+
+
+def train_factors(wavelength_m: ArrayLike, pulse_duration_s: ArrayLike, prf_Hz: ArrayLike) -> TrainFactors:
+    wavelength, duration, prf = np.broadcast_arrays(*(np.asarray(value, dtype=np.float64)
+                                                     for value in (wavelength_m, pulse_duration_s, prf_Hz)))
+    applies = (wavelength >= 400e-9) & (duration < _CONTINUOUS_ABOVE_S) & (prf > 1.0)
+    grouping = pulse_grouping_times(wavelength)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        apart = 1.0 / prf > grouping
+        pulses = prf * _TRAIN_WINDOW_S
+        case_a = pulses**0.25
+        case_b = prf * np.minimum(grouping, _TRAIN_WINDOW_S) * np.maximum(1.0, _TRAIN_WINDOW_S / grouping) ** 0.25
+    factor = np.where(applies, np.where(apart, case_a, case_b), 1.0)
+    case = np.where(applies, np.where(apart, "a", "b"), "none")
+    return TrainFactors(factor=factor, case=case, grouping_time_s=grouping, pulses=pulses)
+
+
+def repetition_factor(wavelength_m: float, pulse_duration_s: float, prf_Hz: float) -> float:
+    """The train multiplier of one emission (see train_factors)."""
+    return float(train_factors(wavelength_m, pulse_duration_s, prf_Hz).factor)
 
 
 class LbRequirementDict(TypedDict):
@@ -156,53 +207,17 @@ def _nanometres(wavelength_m: float) -> str:
         else f"{wavelength_m * 1e9:.1f}"
 
 
-def scale_number(condition: Condition, wavelength_m: float, density: float) -> tuple[int, bool]:
-    """(smallest n with density <= LBn limit, whether any eyewear needs to be rated at all)."""
-    base, _quantity = lb_limit(condition, wavelength_m, 0)
-    exact = math.ceil(math.log10(density / base) - _ROUNDING_SLACK)
-    return max(1, exact), exact >= 1
-
-
-def _requirement(condition: Condition, wavelength_m: float, density: float, quantity: str,
-                 working: Working, how: str) -> LbRequirement:
-    number, needed = scale_number(condition, wavelength_m, density)
-    limit, _ = lb_limit(condition, wavelength_m, number)
-    working.add(f"EN 207 {condition}: scale number", f"smallest n with {how} <= LBn limit", number, "",
-                "EN 207 Table B.2 as restated in DGUV 203-042 section 5", density=density, LBn_limit=limit)
-    return LbRequirement(condition, wavelength_m, number, density, quantity, needed, number <= LB_MAX)
-
-
-def repetition_factor(wavelength_m: float, pulse_duration_s: float, prf_Hz: float,
-                      working: Working) -> float:
-    """Multiplier applied to one pulse's energy density for a train (DGUV 203-042 section 5.3).
-
-    Applies in 400 nm-1 mm for pulses shorter than 0.25 s above 1 Hz. With N = prf * 5 s,
-    the factor is N^(1/4) when pulses are further apart than T_i; when closer, the pulses in
-    T_i are summed and counted as one, giving (prf T_i) (5 s / T_i)^(1/4).
-    """
-    if not (wavelength_m >= 400e-9 and pulse_duration_s < 0.25 and prf_Hz > 1.0):
-        working.add("EN 207 train correction", "not applied (needs 400 nm-1 mm, t < 0.25 s, prf > 1 Hz)", 1.0)
-        return 1.0
-    grouping = pulse_grouping_time(wavelength_m)
-    assert grouping is not None  # every wavelength from 400 nm up has a grouping time
-    if 1.0 / prf_Hz > grouping:
-        pulses = prf_Hz * _TRAIN_WINDOW_S
-        factor = float(pulses**0.25)
-        working.add("EN 207 train correction", "N^(1/4), N = prf x 5 s", factor, "",
-                    "DGUV 203-042 section 5.3 case a", N=pulses, prf_Hz=prf_Hz)
-        return factor
-    window = min(grouping, _TRAIN_WINDOW_S)
-    grouped = prf_Hz * window
-    groups = max(1.0, _TRAIN_WINDOW_S / grouping)
-    factor = float(grouped * groups**0.25)
-    working.add("EN 207 train correction", "(prf T_i) (5 s / T_i)^(1/4): pulses within T_i summed", factor, "",
-                "DGUV 203-042 section 5.3 case b; T_i of IEC 60825-1:2007 (BGI 832)",
-                T_i_s=grouping, prf_Hz=prf_Hz)
-    return factor
+class En207RatingDict(TypedDict):
+    markings: list[str]
+    requirements: list[LbRequirementDict]
+    beam_diameter_1e_m: float
+    large_beam_correction: str
 
 
 @dataclass(frozen=True)
 class En207Rating:
+    """The EN 207 ratings one emission needs, with their working and warnings."""
+
     requirements: tuple[LbRequirement, ...]
     beam_diameter_1e_m: float
     working: Working = field(default_factory=Working)
@@ -212,58 +227,176 @@ class En207Rating:
     def markings(self) -> list[str]:
         return [r.marking for r in self.requirements if r.marking is not None]
 
-    def to_dict(self) -> dict[str, object]:
+    def to_dict(self) -> En207RatingDict:
         return {"markings": self.markings, "requirements": [r.to_dict() for r in self.requirements],
-                "beam_diameter_1e_m": self.beam_diameter_1e_m,
-                "large_beam_correction": "not applied"}
+                "beam_diameter_1e_m": self.beam_diameter_1e_m, "large_beam_correction": "not applied"}
+
+
+@dataclass(frozen=True)
+class _Requirements:
+    """One kind of rating for every emission: the continuous D rating, or the rating for one pulse."""
+
+    present: BoolArray
+    condition: NDArray[np.str_]
+    density: FloatArray
+    quantity: NDArray[np.str_]
+    scale: FloatArray
+    needed: BoolArray
+    how: NDArray[np.str_]
+    raised_from: FloatArray
+
+
+@dataclass(frozen=True)
+class En207Ratings:
+    """The EN 207 ratings of many emissions (arrays); ``rating_at(i)`` is one emission's En207Rating.
+
+    ``continuous`` is the D rating from the average power (continuous wave, and every repetitively
+    pulsed laser); ``pulse`` the rating of one pulse (I, R, M, or D for a "pulse" above 0.25 s),
+    with the train factor applied.
+    """
+
+    wavelength_m: FloatArray
+    beam_diameter_1e_m: FloatArray
+    average_power_W: FloatArray
+    continuous: _Requirements
+    pulse: _Requirements
+    train: TrainFactors
+
+    def floored(self, od_required: ArrayLike, on_pulse: ArrayLike) -> En207Ratings:
+        """The ratings with the one that matches the governing exposure limit raised to at least ``od_required``.
+
+        An LBn filter is only guaranteed a spectral OD of n (DGUV 203-042 section 5.1), so the rating
+        that answers the governing limit (the pulse rating where a pulse rule governs, the D rating
+        for continuous wave and the average-power rule) never asks for less than the required OD.
+        """
+        od = np.asarray(od_required, dtype=np.float64)
+        pulse_governs = np.asarray(on_pulse, dtype=bool) & self.pulse.present
+        continuous_governs = ~pulse_governs & self.continuous.present
+        return replace(self, continuous=_floor(self.continuous, od, continuous_governs),
+                       pulse=_floor(self.pulse, od, pulse_governs))
+
+    def rating_at(self, index: int) -> En207Rating:
+        wavelength = float(self.wavelength_m.reshape(-1)[index])
+        diameter = float(self.beam_diameter_1e_m.reshape(-1)[index])
+        requirements: list[LbRequirement] = []
+        working = Working()
+        working.add("EN 207: beam area", "A63 = pi d63^2 / 4", float(np.pi * diameter**2 / 4), "m^2",
+                    "DGUV 203-042 section 5.2", d63=diameter)
+        if self.train.case.reshape(-1)[index] != "none" and self.pulse.present.reshape(-1)[index]:
+            _train_step(self.train, index, working)
+        for kind in (self.continuous, self.pulse):
+            if not kind.present.reshape(-1)[index]:
+                continue
+            requirement = _requirement_at(kind, index, wavelength, working)
+            requirements.append(requirement)
+        warnings: list[str] = []
+        for requirement in requirements:
+            if not requirement.within_scale:
+                warnings.append(f"EN 207 {requirement.condition}: the beam needs more than LB{LB_MAX} "
+                                f"(LB{requirement.scale_number}); no EN 207 eyewear is rated for it. Enclose "
+                                "the beam or use other controls.")
+        # DGUV 203-042 section 5.2 states the correction for d63 of 1-15 mm, yet its own Table 1 examples
+        # (d63 of 23-80 mm) carry ratings above the base table, so any beam from 1 mm up is flagged.
+        power = float(self.average_power_W.reshape(-1)[index])
+        if wavelength > 315e-9 and diameter >= 1e-3 and (
+                (math.isfinite(power) and power > 10.0)
+                or any(r.quantity == "E" and r.density > 1e5 for r in requirements)):
+            warnings.append("EN 207 large-beam correction (DGUV 203-042 section 5.2) may apply to this beam and was "
+                            "not applied; confirm the LB number with the eyewear maker.")
+        return En207Rating(tuple(requirements), diameter, working, tuple(warnings))
+
+
+def _floor(kind: _Requirements, od: FloatArray, where: BoolArray) -> _Requirements:
+    raise_it = where & (od > kind.scale)
+    return replace(kind, scale=np.where(raise_it, od, kind.scale), needed=kind.needed | raise_it,
+                   raised_from=np.where(raise_it, kind.scale, np.nan))
+
+
+def _requirement_at(kind: _Requirements, index: int, wavelength: float, working: Working) -> LbRequirement:
+    condition = str(kind.condition.reshape(-1)[index])
+    density = float(kind.density.reshape(-1)[index])
+    number = int(kind.scale.reshape(-1)[index])
+    raised_from = float(kind.raised_from.reshape(-1)[index])
+    base, quantity = lb_bases(condition, wavelength)
+    if math.isfinite(raised_from):
+        working.add(f"EN 207 {condition}: scale number", "smallest n with the density <= LBn limit", raised_from, "",
+                    "EN 207 Table B.2 as restated in DGUV 203-042 section 5", density=density,
+                    LBn_limit=float(base) * 10.0**raised_from)
+        working.add(f"EN 207 {condition}: raised to the required OD", "n = max(n, OD required)", number, "",
+                    "an LBn filter guarantees only OD n (DGUV 203-042 section 5.1)")
+    else:
+        working.add(f"EN 207 {condition}: scale number", f"smallest n with {kind.how.reshape(-1)[index]} <= LBn limit",
+                    number, "", "EN 207 Table B.2 as restated in DGUV 203-042 section 5", density=density,
+                    LBn_limit=float(base) * 10.0**number)
+    return LbRequirement(condition=en207_condition_letter(condition), wavelength_m=wavelength, scale_number=number,
+                         density=density, quantity=str(quantity), needed=bool(kind.needed.reshape(-1)[index]),
+                         within_scale=number <= LB_MAX)
+
+
+def en207_condition_letter(text: str) -> Condition:
+    if text not in _CONDITIONS:
+        raise ValueError(f"unknown EN 207 test condition {text!r}")
+    return _CONDITIONS[_CONDITIONS.index(text)]
+
+
+def _train_step(train: TrainFactors, index: int, working: Working) -> None:
+    factor, case = float(train.factor.reshape(-1)[index]), str(train.case.reshape(-1)[index])
+    if case == "a":
+        working.add("EN 207 train correction", "N^(1/4), N = prf x 5 s", factor, "",
+                    "DGUV 203-042 section 5.3 case a", N=float(train.pulses.reshape(-1)[index]))
+    else:
+        working.add("EN 207 train correction", "(prf T_i) (5 s / T_i)^(1/4): pulses within T_i summed", factor, "",
+                    "DGUV 203-042 section 5.3 case b; T_i of IEC 60825-1:2007 (BGI 832)",
+                    T_i_s=float(train.grouping_time_s.reshape(-1)[index]))
+
+
+def en207_ratings(wavelength_m: ArrayLike, beam_diameter_1e_m: ArrayLike, *, average_power_W: ArrayLike,
+                  pulse_energy_J: ArrayLike, pulse_duration_s: ArrayLike, prf_Hz: ArrayLike) -> En207Ratings:
+    """The EN 207 ratings protectors need, at each beam's 1/e diameter (NaN: a figure not given).
+
+    Continuous: D from P / A63. Pulsed: the letter from the pulse duration, from H = Q / A63
+    (times the train correction), or for M outside 315-1400 nm, and for "pulses" above 0.25 s,
+    from the peak power density Q / (t A63); repetitive lasers always also need D from the
+    average power.
+    """
+    wavelength, diameter, power, energy, duration, prf = np.broadcast_arrays(
+        *(np.asarray(value, dtype=np.float64)
+          for value in (wavelength_m, beam_diameter_1e_m, average_power_W, pulse_energy_J, pulse_duration_s, prf_Hz)))
+    pulsed = np.isfinite(energy) & np.isfinite(duration)
+    letter = np.where(pulsed, en207_conditions(duration), "D")
+    train = train_factors(wavelength, duration, np.where(np.isfinite(prf), prf, 0.0))
+    by_peak = (letter == "D") | ((letter == "M") & (en207_bands(wavelength) != 1))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        pulse_density = np.where(by_peak, peak_over_area(energy / duration, diameter),
+                                 peak_over_area(energy, diameter) * train.factor)
+    pulse_scale, pulse_needed = scale_numbers(letter, wavelength, pulse_density)
+    pulse = _Requirements(present=pulsed, condition=letter, density=pulse_density,
+                          quantity=np.where(by_peak, "E", "H"), scale=pulse_scale, needed=pulse_needed,
+                          how=np.where(by_peak, np.where(letter == "D", "E = (Q / t) / A63", "E_peak = Q / (t A63)"),
+                                       "H' = Q / A63 x train factor"),
+                          raised_from=np.full(wavelength.shape, np.nan))
+    continuous_present = np.isfinite(power) & (~pulsed | np.isfinite(prf))
+    continuous_density = peak_over_area(power, diameter)
+    continuous_scale, continuous_needed = scale_numbers(np.full(wavelength.shape, "D"), wavelength, continuous_density)
+    continuous = _Requirements(present=continuous_present, condition=np.full(wavelength.shape, "D"),
+                               density=continuous_density, quantity=np.full(wavelength.shape, "E"),
+                               scale=continuous_scale, needed=continuous_needed,
+                               how=np.where(pulsed, "E = P_avg / A63", "E = P / A63"),
+                               raised_from=np.full(wavelength.shape, np.nan))
+    return En207Ratings(wavelength_m=wavelength, beam_diameter_1e_m=diameter, average_power_W=power,
+                        continuous=continuous, pulse=pulse, train=train)
 
 
 def en207_rating(wavelength_m: float, beam_diameter_1e_m: float, *, average_power_W: float | None,
                  pulse_energy_J: float | None = None, pulse_duration_s: float | None = None,
                  prf_Hz: float | None = None) -> En207Rating:
-    """The EN 207 ratings a protector needs for one emission, at the beam's 1/e diameter.
+    """The EN 207 ratings one emission needs (en207_ratings of one)."""
+    def given(value: float | None) -> float:
+        return np.nan if value is None else value
 
-    Continuous: D from P / A63. Pulsed: the letter from the pulse duration, from H = Q / A63
-    (times the train correction), or for M outside 315-1400 nm from the peak power density
-    Q / (t A63); repetitive lasers always also need D from the average power.
-    """
-    working = Working()
-    warnings: list[str] = []
-    working.add("EN 207: beam area", "A63 = pi d63^2 / 4", circle_area(beam_diameter_1e_m), "m^2",
-                "DGUV 203-042 section 5.2", d63=beam_diameter_1e_m)
-    requirements: list[LbRequirement] = []
-    pulsed = pulse_energy_J is not None and pulse_duration_s is not None
-    if pulsed:
-        assert pulse_energy_J is not None and pulse_duration_s is not None
-        condition = en207_condition(pulse_duration_s)
-        if condition == "D":
-            # A "pulse" longer than 0.25 s is tested as continuous emission at its own power.
-            peak = peak_over_area(pulse_energy_J / pulse_duration_s, beam_diameter_1e_m)
-            requirements.append(_requirement("D", wavelength_m, peak, "E", working, "E = (Q / t) / A63"))
-        elif condition == "M" and en207_band(wavelength_m) != 1:
-            peak = peak_over_area(pulse_energy_J / pulse_duration_s, beam_diameter_1e_m)
-            requirements.append(_requirement("M", wavelength_m, peak, "E", working, "E_peak = Q / (t A63)"))
-        else:
-            factor = 1.0 if prf_Hz is None else repetition_factor(wavelength_m, pulse_duration_s, prf_Hz, working)
-            density = peak_over_area(pulse_energy_J, beam_diameter_1e_m) * factor
-            requirements.append(_requirement(condition, wavelength_m, density, "H", working,
-                                             "H' = Q / A63 x train factor"))
-    if average_power_W is not None and (not pulsed or prf_Hz is not None):
-        density = peak_over_area(average_power_W, beam_diameter_1e_m)
-        requirements.insert(0, _requirement("D", wavelength_m, density, "E", working,
-                                            "E = P_avg / A63" if pulsed else "E = P / A63"))
-    for requirement in requirements:
-        if not requirement.within_scale:
-            warnings.append(f"EN 207 {requirement.condition}: the beam needs more than LB{LB_MAX} "
-                            f"(LB{requirement.scale_number}); no EN 207 eyewear is rated for it. Enclose "
-                            "the beam or use other controls.")
-    # DGUV 203-042 section 5.2 states the correction for d63 of 1-15 mm, yet its own Table 1 examples
-    # (d63 of 23-80 mm) carry ratings above the base table, so any beam from 1 mm up is flagged.
-    if wavelength_m > 315e-9 and beam_diameter_1e_m >= 1e-3 and (
-            (average_power_W or 0.0) > 10.0 or any(r.quantity == "E" and r.density > 1e5 for r in requirements)):
-        warnings.append("EN 207 large-beam correction (DGUV 203-042 section 5.2) may apply to this beam and was "
-                        "not applied; confirm the LB number with the eyewear maker.")
-    return En207Rating(tuple(requirements), beam_diameter_1e_m, working, tuple(warnings))
+    return en207_ratings(wavelength_m, beam_diameter_1e_m, average_power_W=given(average_power_W),
+                         pulse_energy_J=given(pulse_energy_J), pulse_duration_s=given(pulse_duration_s),
+                         prf_Hz=given(prf_Hz)).rating_at(0)
 
 
 # ---------------------------------------------------------------------------------------------

@@ -111,10 +111,10 @@ def test_both_limit_sets_assess() -> None:
 def test_the_skin_distance_uses_the_skin_limit() -> None:
     result = _assess(**GREEN_5W)
     skin = result["skin_limit"]
-    assert skin["tissue"] == "skin"
+    assert skin["record"]["tissue"] == "skin"
     mpe = result["exposure_basis"]
     assert mpe["skin_exposure_s"] == 10.0  # no aversion response for the skin: 10 s (common practice)
-    irradiance = skin["irradiance_W_m2"]
+    irradiance = skin["mpe"]
     critical = math.sqrt(4 * 5 / (math.pi * irradiance))
     expected = 0.0 if critical <= max(skin["aperture_m"], 2e-3 / math.sqrt(2)) else math.sqrt(
         critical**2 - (2e-3 / math.sqrt(2)) ** 2) / (1e-3 / math.sqrt(2))
@@ -279,3 +279,70 @@ def test_every_bad_option_is_one_line_naming_the_field(capsys: pytest.CaptureFix
     assert status == 2
     assert err.startswith(f"error: {field}:")
     assert err.count("\n") == 1
+
+
+BATCH_HEADER = "wavelength_m,power_W,pulse_energy_J,pulse_duration_s,prf_Hz,beam_diameter_m,divergence_rad,diameter_at,exposure_s,limits\n"
+BATCH_ROWS = [
+    ("5.32e-7,0.005,,,,0.002,0.001,1/e2,,icnirp2013", ["--wavelength", "532nm", "--power", "5mW",
+                                                      "--beam-diameter", "2mm", "--divergence", "1mrad"]),
+    ("9e-8,1,,,,0.002,0.001,1/e2,,icnirp2013", None),  # below 180 nm: refused, the others still print
+    ("1.064e-6,,0.1,1e-8,10,0.005,0.0005,1/e,10,eu2006", ["--wavelength", "1064nm", "--pulse-energy", "100mJ",
+                                                          "--pulse-duration", "10ns", "--prf", "10Hz",
+                                                          "--beam-diameter", "5mm", "--divergence", "0.5mrad",
+                                                          "--diameter-at", "1/e", "--exposure", "10s",
+                                                          "--limits", "eu2006"]),
+    ("2e-6,,0.002,0.001,2,0.0005,0.001,1/e,10,", ["--wavelength", "2um", "--pulse-energy", "2mJ",
+                                                  "--pulse-duration", "1ms", "--prf", "2Hz", "--exposure", "10s",
+                                                  "--beam-diameter", "0.5mm", "--divergence", "1mrad",
+                                                  "--diameter-at", "1/e"]),
+]
+
+
+def _batch_file(tmp_path: Any) -> str:
+    path = tmp_path / "beams.csv"
+    path.write_text(BATCH_HEADER + "".join(row + "\n" for row, _ in BATCH_ROWS))
+    return str(path)
+
+
+def test_a_batch_file_agrees_with_assess_row_by_row(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["assess", "--batch", _batch_file(tmp_path), "--json"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert len(lines) == len(BATCH_ROWS)
+    for number, (line, (_row, options)) in enumerate(zip(lines, BATCH_ROWS, strict=True), start=1):
+        record = json.loads(line)
+        if options is None:
+            assert record == {"row": number, "error": record["error"]}
+            assert record["error"].startswith("wavelength:")
+            continue
+        assert main(["assess", *options, "--json"]) == 0
+        alone = json.loads(capsys.readouterr().out)
+        assert "working" not in record
+        assert record == {key: value for key, value in alone.items() if key != "working"}
+
+
+def test_a_batch_adds_the_working_when_asked(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["assess", "--batch", _batch_file(tmp_path), "--json", "--working"]) == 0
+    records = [json.loads(line) for line in capsys.readouterr().out.splitlines()]
+    assert all(record["working"] for record in records if "error" not in record)
+
+
+def test_a_batch_without_json_prints_a_line_per_row_and_the_caution(tmp_path: Any,
+                                                                    capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["assess", "--batch", _batch_file(tmp_path)]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[0].startswith("row 1: 532 nm [icnirp2013]: NOHD")
+    assert out[1].startswith("row 2: refused: wavelength:")
+    assert "never replace" in out[-1]
+
+
+@pytest.mark.parametrize(("header", "message"), [
+    ("wavelength_m,power_W,colour\n", "unknown column 'colour'"),
+    ("power_W,beam_diameter_m,divergence_rad\n", "missing column 'wavelength_m'"),
+])
+def test_a_batch_with_wrong_columns_is_one_line_and_exit_2(tmp_path: Any, capsys: pytest.CaptureFixture[str],
+                                                           header: str, message: str) -> None:
+    path = tmp_path / "bad.csv"
+    path.write_text(header)
+    assert main(["assess", "--batch", str(path), "--json"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: batch:") and message in err
