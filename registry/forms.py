@@ -14,9 +14,10 @@ from django.utils.functional import Promise
 from django.utils.text import capfirst
 from django.utils.translation import gettext_lazy as _
 
+from hazards.assessment import beam_fields
 from hazards.errors import InputError
 from hazards.units import format_for_input, parse_quantity
-from registry.models import MAX_WAVELENGTH_M, MIN_WAVELENGTH_M, Emission, EyewearMarking, Location
+from registry.models import Emission, EyewearMarking, Location
 
 # Two readings of one value closer than this are the same value: formatting for display
 # and parsing back may move the last bit or two of a float, never more.
@@ -73,33 +74,37 @@ def _length(name: str | Promise, help_text: str | Promise, *, required: bool = F
     return QuantityField(name=name, unit="m", required=required, help_text=help_text, **limits)
 
 
-def _wavelength(name: str | Promise, *, required: bool) -> QuantityField:
-    return QuantityField(name=name, unit="m", display_unit="nm", minimum=MIN_WAVELENGTH_M, maximum=MAX_WAVELENGTH_M,
-                         required=required,
-                         help_text=_("e.g. '532 nm' or '10.6 um'; a bare number is in metres. 180 nm to 1 mm."))
+def _beam(engine_name: str, name: str | Promise, help_text: str | Promise, *, required: bool = False,
+          display_unit: str | None = None) -> QuantityField:
+    """A beam input with the unit and bounds the hazards engine gives it (hazards.assessment.beam_fields)."""
+    spec = beam_fields()[engine_name]
+    return QuantityField(name=name, unit=spec.unit, display_unit=display_unit, minimum=spec.minimum,
+                         maximum=spec.maximum, inclusive_minimum=spec.inclusive_minimum, required=required,
+                         help_text=help_text)
 
 
 class EmissionForm(forms.ModelForm):
-    """Beam parameters as on the data sheet, for the emission page and the inline on the laser."""
+    """Beam parameters as on the data sheet, for the emission page and the inline on the laser.
 
-    wavelength_m = _wavelength(_("wavelength"), required=True)
-    wavelength_max_m = _wavelength(_("longest wavelength"), required=False)
-    average_power_W = QuantityField(name=_("average power"), unit="W", minimum=0.0, inclusive_minimum=False,
-                                    required=False, help_text=_("e.g. '5 mW'; a bare number is in watts."))
-    pulse_energy_J = QuantityField(name=_("pulse energy"), unit="J", minimum=0.0, inclusive_minimum=False,
-                                   required=False, help_text=_("e.g. '200 mJ'; a bare number is in joules."))
-    pulse_duration_s = QuantityField(name=_("pulse duration"), unit="s", minimum=0.0, inclusive_minimum=False,
-                                     required=False, help_text=_("e.g. '10 ns'; a bare number is in seconds."))
-    prf_Hz = QuantityField(name=_("pulse repetition frequency"), unit="Hz", minimum=0.0, inclusive_minimum=False,
-                           required=False, help_text=_("e.g. '10 Hz' or '80 MHz'; a bare number is in hertz."))
-    beam_diameter_m = _length(_("beam diameter at the aperture"),
-                              _("e.g. '2.3 mm'; a bare number is in metres."), minimum=0.0, inclusive_minimum=False)
-    divergence_rad = QuantityField(name=_("full-angle divergence"), unit="rad", display_unit="mrad", minimum=0.0,
-                                   required=False,
-                                   help_text=_("e.g. '0.5 mrad'; a bare number is in radians; 0 for collimated."))
-    source_size_rad = QuantityField(name=_("apparent source size"), unit="rad", display_unit="mrad", minimum=0.0,
-                                    help_text=_("Angular subtense of an extended source, e.g. '5 mrad'; "
-                                                "0 for a point source."))
+    The rules that tie the values together run in Emission.clean(), which the form calls.
+    """
+
+    wavelength_m = _beam("wavelength", _("wavelength"), _("e.g. '532 nm' or '10.6 um'; a bare number is in metres. "
+                                                           "180 nm to 1 mm."), required=True, display_unit="nm")
+    wavelength_max_m = _beam("wavelength_max", _("longest wavelength"),
+                             _("Only for a tunable range, e.g. '1080 nm'; a bare number is in metres."),
+                             display_unit="nm")
+    average_power_W = _beam("power", _("average power"), _("e.g. '5 mW'; a bare number is in watts."))
+    pulse_energy_J = _beam("pulse_energy", _("pulse energy"), _("e.g. '200 mJ'; a bare number is in joules."))
+    pulse_duration_s = _beam("pulse_duration", _("pulse duration"), _("e.g. '10 ns'; a bare number is in seconds."))
+    prf_Hz = _beam("prf", _("pulse repetition frequency"), _("e.g. '10 Hz' or '80 MHz'; a bare number is in hertz."))
+    beam_diameter_m = _beam("beam_diameter", _("beam diameter at the aperture"),
+                            _("e.g. '2.3 mm'; a bare number is in metres."))
+    divergence_rad = _beam("divergence", _("full-angle divergence"),
+                           _("e.g. '0.5 mrad'; a bare number is in radians; 0 for collimated."), display_unit="mrad")
+    source_size_rad = _beam("source_size", _("apparent source size"),
+                            _("Angular subtense of an extended source, e.g. '5 mrad'; 0 for a point source."),
+                            required=True, display_unit="mrad")
 
     class Meta:
         model = Emission
@@ -116,8 +121,10 @@ class LocationForm(forms.ModelForm):
 
 
 class EyewearMarkingForm(forms.ModelForm):
-    wavelength_min_m = _wavelength(_("from wavelength"), required=True)
-    wavelength_max_m = _wavelength(_("to wavelength"), required=True)
+    wavelength_min_m = _beam("wavelength", _("from wavelength"), _("e.g. '190 nm'; a bare number is in metres."),
+                             required=True, display_unit="nm")
+    wavelength_max_m = _beam("wavelength", _("to wavelength"), _("e.g. '532 nm'; a bare number is in metres."),
+                             required=True, display_unit="nm")
 
     class Meta:
         model = EyewearMarking

@@ -17,6 +17,7 @@ from registry.models.eyewear import Eyewear, EyewearCondition, EyewearMarking
 from registry.models.hazard import HazardResult
 from registry.models.incident import Incident, IncidentKind, IncidentStatus
 from registry.models.laser import (
+    EMISSION_BEAM_FIELDS,
     HAZARDOUS_CLASSES,
     MAX_WAVELENGTH_M,
     MIN_WAVELENGTH_M,
@@ -39,7 +40,7 @@ __all__ = [
     "Audit", "AuditChecklistItem", "AuditScope", "AuditStatus", "ChecklistAnswer", "Finding", "FindingSeverity",
     "FindingStatus", "OPEN_AUTHORIZATION_STATUSES", "Authorization", "AuthorizationStatus", "RecordRetainedError",
     "Eyewear", "EyewearCondition", "EyewearMarking", "HazardResult", "Incident", "IncidentKind", "IncidentStatus",
-    "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
+    "EMISSION_BEAM_FIELDS", "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
     "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode",
     "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "SOP", "SOPAcknowledgement", "SOPStatus",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",

@@ -1,9 +1,13 @@
 """Lasers and their emissions (several lines or modes per laser), in SI units."""
 from __future__ import annotations
 
+from django.core.exceptions import ValidationError
 from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
+
+from hazards.assessment import Mode, check_beam_values
+from hazards.errors import InputError
 
 from registry.models.base import RetainedModel, TimestampedModel
 from registry.models.location import Location
@@ -139,6 +143,14 @@ class TemporalMode(models.TextChoices):
 PULSED_MODES = (TemporalMode.SINGLE_PULSE, TemporalMode.REPETITIVE, TemporalMode.Q_SWITCHED,
                 TemporalMode.MODE_LOCKED)
 
+# The hazards engine's name of each physical input -> the emission field that holds it (SI units).
+EMISSION_BEAM_FIELDS: dict[str, str] = {
+    "wavelength": "wavelength_m", "wavelength_max": "wavelength_max_m", "power": "average_power_W",
+    "pulse_energy": "pulse_energy_J", "pulse_duration": "pulse_duration_s", "prf": "prf_Hz",
+    "beam_diameter": "beam_diameter_m", "divergence": "divergence_rad", "source_size": "source_size_rad",
+    "fibre_na": "fibre_na",
+}
+
 
 class DiameterDefinition(models.TextChoices):
     """Where on the Gaussian profile a beam diameter or divergence is measured."""
@@ -268,3 +280,22 @@ class Emission(TimestampedModel):
         if self.wavelength_max_m is not None:
             nanometres += f"-{self.wavelength_max_m * 1e9:.6g}"
         return f"{self.laser.asset_tag} {nanometres} nm {self.get_temporal_mode_display()}"
+
+    @property
+    def beam_mode(self) -> Mode:
+        """The hazards engine's temporal mode: every pulsed mode but a single pulse is a pulse train."""
+        if self.temporal_mode == TemporalMode.CONTINUOUS:
+            return "continuous"
+        return "single_pulse" if self.temporal_mode == TemporalMode.SINGLE_PULSE else "pulse_train"
+
+    def beam_values(self) -> dict[str, float | None]:
+        """The physical inputs by the engine's names (hazards.assessment.check_beam_values takes them)."""
+        return {name: getattr(self, field) for name, field in EMISSION_BEAM_FIELDS.items()}
+
+    def clean(self) -> None:
+        """Every beam rule of the hazards engine (hazards.assessment.inputs is their one home), keyed by field."""
+        super().clean()
+        try:
+            check_beam_values(self.beam_values(), mode=self.beam_mode)
+        except InputError as error:
+            raise ValidationError({EMISSION_BEAM_FIELDS.get(error.field, error.field): error.message}) from None

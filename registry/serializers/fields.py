@@ -14,6 +14,7 @@ from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
+from hazards.assessment import beam_fields
 from hazards.errors import InputError
 from hazards.units import format_si, parse_quantity
 
@@ -56,6 +57,15 @@ class QuantityField(serializers.Field):
 
     def to_representation(self, value: float) -> float:
         return float(value)
+
+
+class BeamQuantityField(QuantityField):
+    """A beam input of the hazards engine, with the unit and bounds the engine gives it (one home)."""
+
+    def __init__(self, engine_name: str, **kwargs: Any) -> None:
+        spec = beam_fields()[engine_name]
+        super().__init__(unit=spec.unit, minimum=spec.minimum, maximum=spec.maximum,
+                         inclusive_minimum=spec.inclusive_minimum, **kwargs)
 
 
 @extend_schema_field(OpenApiTypes.STR)

@@ -6,10 +6,7 @@ from typing import Any
 from rest_framework import serializers
 
 from hazards.caution import CAUTION
-from hazards.units import format_si
 from registry.models import (
-    MAX_WAVELENGTH_M,
-    MIN_WAVELENGTH_M,
     RETIRED_STATUSES,
     Emission,
     HazardResult,
@@ -20,12 +17,7 @@ from registry.models import (
 )
 from registry.permissions import editable_lasers, person_of
 from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, SelectorListSerializer, record_url
-from registry.serializers.fields import QuantityField, QuantitySerializerMixin
-
-# How far pulse energy x repetition rate may stray from the stated average power before the
-# set is refused: data sheets round both figures. The same tolerance as hazards.assessment
-# (common practice, no source).
-POWER_CONSISTENCY = 0.2
+from registry.serializers.fields import BeamQuantityField, QuantityField, QuantitySerializerMixin
 
 class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """The engine's figures for one emission under one limit set, as stored at ``computed_at``."""
@@ -96,32 +88,34 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
 
     laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=editable_lasers,
                                help_text="The laser this emission belongs to (one you may edit).")
-    wavelength = QuantityField(source="wavelength_m", unit="m", minimum=MIN_WAVELENGTH_M, maximum=MAX_WAVELENGTH_M,
-                               example="532 nm", help_text="Wavelength in m (the shortest, for a range).")
-    wavelength_max = QuantityField(source="wavelength_max_m", unit="m", minimum=MIN_WAVELENGTH_M,
-                                   maximum=MAX_WAVELENGTH_M, required=False, allow_null=True, example="1080 nm",
-                                   help_text="Longest wavelength in m, only for a tunable or broadband range.")
-    average_power = QuantityField(source="average_power_W", unit="W", minimum=0, inclusive_minimum=False,
-                                  required=False, allow_null=True, example="5 mW", help_text="Average power in W.")
-    pulse_energy = QuantityField(source="pulse_energy_J", unit="J", minimum=0, inclusive_minimum=False,
-                                 required=False, allow_null=True, example="0.5 J", help_text="Energy per pulse in J.")
-    pulse_duration = QuantityField(source="pulse_duration_s", unit="s", minimum=0, inclusive_minimum=False,
-                                   required=False, allow_null=True, example="10 ns", help_text="Pulse duration in s.")
-    prf = QuantityField(source="prf_Hz", unit="Hz", minimum=0, inclusive_minimum=False, required=False,
-                        allow_null=True, example="10 Hz", help_text="Pulse repetition frequency in Hz.")
-    beam_diameter = QuantityField(source="beam_diameter_m", unit="m", minimum=0, inclusive_minimum=False,
-                                  required=False, allow_null=True, example="2 mm",
-                                  help_text="Beam diameter at the aperture in m (see diameter_at).")
+    # Units and bounds come from the engine (hazards.assessment.beam_fields); the rules tying the values
+    # together run in Emission.clean(), which the emission services call.
+    wavelength = BeamQuantityField("wavelength", source="wavelength_m", example="532 nm",
+                                   help_text="Wavelength in m (the shortest, for a range).")
+    wavelength_max = BeamQuantityField("wavelength_max", source="wavelength_max_m", required=False, allow_null=True,
+                                       example="1080 nm",
+                                       help_text="Longest wavelength in m, only for a tunable or broadband range.")
+    average_power = BeamQuantityField("power", source="average_power_W", required=False, allow_null=True,
+                                      example="5 mW", help_text="Average power in W.")
+    pulse_energy = BeamQuantityField("pulse_energy", source="pulse_energy_J", required=False, allow_null=True,
+                                     example="0.5 J", help_text="Energy per pulse in J.")
+    pulse_duration = BeamQuantityField("pulse_duration", source="pulse_duration_s", required=False, allow_null=True,
+                                       example="10 ns", help_text="Pulse duration in s (below 100 fs: assessed at "
+                                       "100 fs, where the limit tables start, with a warning).")
+    prf = BeamQuantityField("prf", source="prf_Hz", required=False, allow_null=True, example="10 Hz",
+                            help_text="Pulse repetition frequency in Hz.")
+    beam_diameter = BeamQuantityField("beam_diameter", source="beam_diameter_m", required=False, allow_null=True,
+                                      example="2 mm", help_text="Beam diameter at the aperture in m (see diameter_at).")
     diameter_at = serializers.ChoiceField(source="diameter_definition",
                                           choices=Emission._meta.get_field("diameter_definition").choices,
                                           required=False,
                                           help_text="Where diameter and divergence are measured: 1/e or 1/e2.")
-    divergence = QuantityField(source="divergence_rad", unit="rad", minimum=0, required=False, allow_null=True,
-                               example="1.2 mrad", help_text="Full-angle divergence in rad.")
-    source_size = QuantityField(source="source_size_rad", unit="rad", minimum=0, required=False,
-                                example="0 rad", help_text="Apparent source size in rad; 0 for a point source.")
-    fibre_na = serializers.FloatField(min_value=0, max_value=1, required=False, allow_null=True,
-                                      help_text="Numerical aperture of a fibre delivery (dimensionless).")
+    divergence = BeamQuantityField("divergence", source="divergence_rad", required=False, allow_null=True,
+                                   example="1.2 mrad", help_text="Full-angle divergence in rad.")
+    source_size = BeamQuantityField("source_size", source="source_size_rad", required=False,
+                                    example="0 rad", help_text="Apparent source size in rad; 0 for a point source.")
+    fibre_na = BeamQuantityField("fibre_na", required=False, allow_null=True, example="0.22",
+                                 help_text="Numerical aperture of a fibre delivery (dimensionless).")
     hazard_results = SelectorListSerializer(child=HazardResultSerializer(), read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
 
@@ -133,30 +127,6 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
             "fibre_na", "notes", "hazard_results", "created_at", "updated_at",
         ]
         read_only_fields = ["created_at", "updated_at"]
-
-    def validate(self, attrs: dict[str, Any]) -> dict[str, Any]:
-        merged = {**self._current_values(), **attrs}
-        duration, prf = merged.get("pulse_duration_s"), merged.get("prf_Hz")
-        if duration is not None and prf is not None and duration > 1.0 / prf:
-            raise serializers.ValidationError(
-                {"pulse_duration": f"a {duration:g} s pulse is longer than the period 1/prf = {1.0 / prf:g} s."})
-        energy, power = merged.get("pulse_energy_J"), merged.get("average_power_W")
-        if energy is not None and prf is not None and power is not None:
-            implied = energy * prf
-            if abs(implied - power) > POWER_CONSISTENCY * max(implied, power):
-                raise serializers.ValidationError({"average_power": (
-                    f"{format_si(power, 'W')} disagrees with pulse_energy x prf = {format_si(implied, 'W')} "
-                    f"by more than {POWER_CONSISTENCY:.0%}; check all three.")})
-        low, high = merged.get("wavelength_m"), merged.get("wavelength_max_m")
-        if low is not None and high is not None and high <= low:
-            raise serializers.ValidationError({"wavelength_max": "must be longer than wavelength."})
-        return attrs
-
-    def _current_values(self) -> dict[str, Any]:
-        if self.instance is None:
-            return {}
-        names = ("pulse_duration_s", "prf_Hz", "pulse_energy_J", "average_power_W", "wavelength_m", "wavelength_max_m")
-        return {name: getattr(self.instance, name) for name in names}
 
 
 class EmissionUpdateSerializer(EmissionSerializer):

@@ -15,9 +15,14 @@ from registry.services.errors import StateError, TransitionError
 ModelT = TypeVar("ModelT", bound=models.Model)
 
 
-def validated_save(instance: ModelT, *, by: Person | None) -> ModelT:
-    """full_clean() (fields and Meta.constraints) then save(), recording ``by`` in the history."""
-    instance.full_clean()
+def validated_save(instance: ModelT, *, by: Person | None, validate_constraints: bool = True) -> ModelT:
+    """full_clean() (fields and Meta.constraints) then save(), recording ``by`` in the history.
+
+    ``validate_constraints=False`` is for derived rows written in bulk (hazard results): the
+    database still enforces every named constraint, but checking each one in Python first costs a
+    query per constraint per row, which turns a register's recompute from seconds into minutes.
+    """
+    instance.full_clean(validate_constraints=validate_constraints)
     if by is not None:
         # simple-history reads this attribute for the history row's user.
         instance._history_user = by.user  # type: ignore[attr-defined]

@@ -1,15 +1,15 @@
-"""Hazard results: an emission mapped to the engine's Beam and Scenario, assessed under every
-limit set, and the figures stored beside the emission.
+"""Hazard results: emissions mapped to the engine's Beam and Scenario, assessed under every
+limit set in one vectorised pass, and the figures stored beside each emission.
 
 Results are derived data. They are refreshed whenever an emission (or its laser's class)
 changes, and an emission that cannot be assessed (no divergence, say) keeps no result, so
-a stale figure is never shown for changed parameters.
+a stale figure is never shown for changed parameters; the reason is kept in
+``emission.assessment_problem``.
 """
 from __future__ import annotations
 
 import logging
-import math
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 
 from django.core.exceptions import ValidationError
@@ -17,65 +17,46 @@ from django.db import transaction
 from django.utils import timezone
 
 from hazards import ENGINE_VERSION
-from hazards.assessment import Assessment, Beam, Scenario, assess
+from hazards.assessment import Assessment, AssessmentDict, Beam, Scenario, assess_many, check_beam, check_scenario
 from hazards.classes import normalise_class
 from hazards.errors import InputError
 from hazards.limits import LIMIT_SETS
+from hazards.limits.limit_set import load_limit_set
 from hazards.units import format_si
-from registry.models import Emission, HazardResult, Person, TemporalMode
+from registry.models import EMISSION_BEAM_FIELDS, Emission, HazardResult, Person
 from registry.services._common import validated_save
 
 logger = logging.getLogger(__name__)
 
-# Engine input names (the assess command's options) -> the emission field a person edits.
-_ENGINE_FIELDS = {
-    "wavelength": "wavelength_m", "power": "average_power_W", "pulse_energy": "pulse_energy_J",
-    "pulse_duration": "pulse_duration_s", "prf": "prf_Hz", "beam_diameter": "beam_diameter_m",
-    "divergence": "divergence_rad", "diameter_at": "diameter_definition", "source_size": "source_size_rad",
-    "fibre_na": "fibre_na", "laser_class": "laser",
-}
-
-# Band edges of the limit tables inside which a tunable range is also sampled, so that the
-# worst case is not missed between the two ends of the range.
-_BAND_EDGES_M = (315e-9, 400e-9, 600e-9, 700e-9, 1050e-9, 1150e-9, 1400e-9, 1500e-9, 1800e-9, 2600e-9)
+# A tunable range is also assessed at these points between its ends, so that the worst case is
+# not missed between two samples.
 _RANGE_SAMPLES = 7
 
-# The limit tables start at 100 fs. A shorter pulse is assessed as a 100 fs pulse, with a
-# warning, because the tables hold their values constant down to that edge (from memory;
-# confirm with the LSO for few-cycle pulses).
-_SHORTEST_TABULATED_PULSE_S = 1e-13
 
-
-@dataclass
-class RefreshSummary:
-    assessed: int = 0
-    not_assessed: list[tuple[Emission, str]] = field(default_factory=list)
+def _model_field(engine_field: str) -> str:
+    return {"laser_class": "laser", **EMISSION_BEAM_FIELDS}.get(engine_field, engine_field)
 
 
 def emission_beam(emission: Emission, *, wavelength_m: float | None = None) -> Beam:
     """The engine's Beam for ``emission`` (at ``wavelength_m`` within a tunable range).
 
-    Raises ValidationError keyed by the emission field that is missing or inconsistent.
+    Raises ValidationError keyed by the emission field that is missing.
     """
     missing = {name: f"needed to assess the hazard of {emission}" for name in ("beam_diameter_m", "divergence_rad")
                if getattr(emission, name) is None}
     if missing:
         raise ValidationError(missing)
-    continuous = emission.temporal_mode == TemporalMode.CONTINUOUS
-    single = emission.temporal_mode == TemporalMode.SINGLE_PULSE
+    mode = emission.beam_mode
     assert emission.beam_diameter_m is not None and emission.divergence_rad is not None
-    pulse_duration = emission.pulse_duration_s
-    if pulse_duration is not None:
-        pulse_duration = max(pulse_duration, _SHORTEST_TABULATED_PULSE_S)
     return Beam(
         wavelength_m=wavelength_m if wavelength_m is not None else emission.wavelength_m,
         power_W=emission.average_power_W,
         beam_diameter_m=emission.beam_diameter_m,
         divergence_rad=emission.divergence_rad,
         diameter_at=emission.diameter_definition,
-        pulse_energy_J=None if continuous else emission.pulse_energy_J,
-        pulse_duration_s=None if continuous else pulse_duration,
-        prf_Hz=None if continuous or single else emission.prf_Hz,
+        pulse_energy_J=None if mode == "continuous" else emission.pulse_energy_J,
+        pulse_duration_s=None if mode == "continuous" else emission.pulse_duration_s,
+        prf_Hz=emission.prf_Hz if mode == "pulse_train" else None,
         source_size_rad=emission.source_size_rad,
         # The beam's own hazard is that of the embedded laser when an enclosure relabels it.
         laser_class=normalise_class(emission.laser.effective_class),
@@ -89,47 +70,98 @@ def emission_scenario(emission: Emission, *, limits: str) -> Scenario:
                     fibre_core_m=emission.beam_diameter_m if fibre else None)
 
 
+def _band_edges() -> tuple[float, ...]:
+    # Where any shipped limit set changes: a range is sampled at every edge inside it.
+    return tuple(sorted({edge for name in LIMIT_SETS for edge in load_limit_set(name).wavelength_edges_m}))
+
+
 def _wavelengths(emission: Emission) -> list[float]:
     low, high = emission.wavelength_m, emission.wavelength_max_m
     if high is None:
         return [low]
-    inside = [edge for edge in _BAND_EDGES_M if low < edge < high]
+    inside = [edge for edge in _band_edges() if low < edge < high]
     spread = [low * (high / low) ** (step / (_RANGE_SAMPLES - 1)) for step in range(_RANGE_SAMPLES)]
     return sorted(set(spread + inside))
 
 
-def _severity(assessment: Assessment) -> tuple[bool, float, float]:
-    return (assessment.nohd.unbounded, assessment.nohd.distance_m or 0.0, assessment.od_exact)
-
-
 @dataclass(frozen=True)
 class EmissionEvaluation:
-    """What is stored for an emission: the assessment standing for it, the register's own
-    warnings, and the optical density eyewear must reach (the highest over a tunable range)."""
+    """What is stored for an emission under one limit set: the assessment standing for it, its
+    record, the register's own warnings, and the optical density eyewear must reach (the highest
+    over a tunable range)."""
 
     assessment: Assessment
+    record: AssessmentDict
     warnings: list[str]
     od_required: float
     od_exact: float
 
 
-def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
-    """Assess ``emission`` under ``limits`` without writing anything. For a tunable range the
-    assessment with the longest NOHD stands for the emission. Raises ValidationError keyed
-    by the emission field the engine refused."""
-    scenario = emission_scenario(emission, limits=limits)
+@dataclass
+class Evaluations:
+    """Every emission's evaluation under every limit set asked for, and why the others were not assessed."""
+
+    results: dict[tuple[int, str], EmissionEvaluation] = field(default_factory=dict)
+    problems: dict[int, str] = field(default_factory=dict)
+
+
+def evaluate_emissions(emissions: Sequence[Emission], *, limit_sets: Sequence[str] = LIMIT_SETS) -> Evaluations:
+    """Assess ``emissions`` under ``limit_sets`` in one pass of the engine, writing nothing.
+
+    Keys are (position in ``emissions``, limit set). For a tunable range the assessment with
+    the longest NOHD stands for the emission, with the highest OD over the range.
+    """
+    evaluations = Evaluations()
+    beams: list[Beam] = []
+    scenarios: list[Scenario] = []
+    owners: list[tuple[int, str]] = []
+    for position, emission in enumerate(emissions):
+        try:
+            candidates = [(emission_beam(emission, wavelength_m=wavelength), emission_scenario(emission, limits=limits),
+                           limits) for limits in limit_sets for wavelength in _wavelengths(emission)]
+            for beam, scenario, _limits in candidates:
+                check_beam(beam)
+                check_scenario(scenario)
+        except ValidationError as error:
+            evaluations.problems[position] = _reason(error)
+            continue
+        except InputError as error:
+            evaluations.problems[position] = _reason(ValidationError({_model_field(error.field): error.message}))
+            continue
+        for beam, scenario, limits in candidates:
+            beams.append(beam)
+            scenarios.append(scenario)
+            owners.append((position, limits))
     try:
-        assessments = [assess(emission_beam(emission, wavelength_m=wavelength), scenario)
-                       for wavelength in _wavelengths(emission)]
-    except InputError as error:
-        raise ValidationError({_ENGINE_FIELDS.get(error.field, error.field): error.message}) from None
-    worst = max(assessments, key=_severity)
+        batch = assess_many(beams, scenarios)
+    except Exception as error:  # noqa: BLE001
+        # A fault inside the engine must not stop the register from saving emissions: assess them
+        # one by one, so that only the emission it belongs to is reported (and logged) without figures.
+        if len({position for position, _limits in owners}) <= 1:
+            for position, _limits in owners:
+                logger.warning("hazards engine failed on emission %s (%s): %s: %s", emissions[position].pk,
+                               emissions[position], type(error).__name__, error)
+                evaluations.problems[position] = f"engine error: {type(error).__name__}: {error}"
+            return evaluations
+        for position, emission in enumerate(emissions):
+            if position not in evaluations.problems:
+                single = evaluate_emissions([emission], limit_sets=limit_sets)
+                evaluations.results.update({(position, limits): value
+                                            for (_zero, limits), value in single.results.items()})
+                evaluations.problems.update({position: problem for problem in single.problems.values()})
+        return evaluations
+    grouped: dict[tuple[int, str], list[Assessment]] = {}
+    for row, owner in enumerate(owners):
+        grouped.setdefault(owner, []).append(Assessment(batch, row))
+    for (position, limits), assessments in grouped.items():
+        evaluations.results[(position, limits)] = _evaluation(emissions[position], assessments)
+    return evaluations
+
+
+def _evaluation(emission: Emission, assessments: list[Assessment]) -> EmissionEvaluation:
+    worst = max(assessments, key=lambda item: (item.nohd_unbounded, item.nohd_m or 0.0, item.od_exact))
     densest = max(assessments, key=lambda item: item.od_exact)
     warnings: list[str] = []
-    if emission.pulse_duration_s is not None and emission.pulse_duration_s < _SHORTEST_TABULATED_PULSE_S:
-        warnings.append(f"Pulse duration {format_si(emission.pulse_duration_s, 's')} is shorter than the 100 fs "
-                        "where the limit tables start; the pulses were assessed as 100 fs pulses. Confirm with "
-                        "the LSO.")
     if len(assessments) > 1:
         assert emission.wavelength_max_m is not None
         warnings.append(
@@ -139,53 +171,98 @@ def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
             f"OD {densest.od_required} at {format_si(densest.beam.wavelength_m, 'm')}; eyewear must cover "
             "the whole range."
         )
-    return EmissionEvaluation(assessment=worst, warnings=warnings, od_required=float(densest.od_required),
-                              od_exact=float(densest.od_exact))
+    return EmissionEvaluation(assessment=worst, record=worst.to_dict(), warnings=warnings,
+                              od_required=float(densest.od_required), od_exact=float(densest.od_exact))
 
 
-def _finite(value: object) -> float | None:
-    if value is None:
-        return None
-    number = float(value)  # type: ignore[arg-type]
-    return number if math.isfinite(number) else None
+def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
+    """Assess one (possibly unsaved) emission under ``limits`` without writing anything.
+
+    Raises ValidationError keyed by the emission field the engine refused or needs.
+    """
+    evaluations = evaluate_emissions([emission], limit_sets=[limits])
+    if 0 in evaluations.problems:
+        raise ValidationError(evaluations.problems[0])
+    return evaluations.results[(0, limits)]
+
+
+def _reason(error: ValidationError) -> str:
+    """The refusal in words, each message led by the emission field it names."""
+    if not hasattr(error, "error_dict"):
+        return "; ".join(error.messages)
+    names = {field.name: str(field.verbose_name) for field in Emission._meta.get_fields() if hasattr(field, "verbose_name")}
+    return "; ".join(f"{names.get(name, name)}: {message}" for name, messages in error.message_dict.items()
+                     for message in messages)
 
 
 def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
-    assessment = evaluation.assessment
-    eye, skin = assessment.eye.record, assessment.skin.record
+    record = evaluation.record
+    basis, skin = record["exposure_basis"], record["skin_limit"]
+    pulsed = record["mode"] != "continuous"
     return {
-        "exposure_s": assessment.exposure_s,
-        "eye_mpe_J_m2": float(eye["radiant_exposure_J_m2"]),
-        "eye_mpe_W_m2": float(eye["irradiance_W_m2"]),
-        "eye_mpe_per_pulse_J_m2": None if assessment.beam.mode == "continuous" else assessment.eye.limit,
-        "pulse_rule": assessment.eye.governing,
-        "skin_exposure_s": assessment.skin.duration_s,
-        "skin_mpe_J_m2": _finite(skin.get("radiant_exposure_J_m2")),
-        "skin_mpe_W_m2": _finite(skin.get("irradiance_W_m2")),
-        "nohd_m": None if assessment.nohd.unbounded else _finite(assessment.nohd.distance_m),
-        "nohd_unbounded": assessment.nohd.unbounded,
-        "diffuse_hazard_distance_m": _finite(assessment.diffuse.distance_m),
-        "skin_hazard_distance_m": _finite(assessment.skin_distance.distance_m),
+        "exposure_s": basis["exposure_s"],
+        "eye_mpe_J_m2": basis["mpe_J_m2"],
+        "eye_mpe_W_m2": basis["mpe_W_m2"],
+        "eye_mpe_per_pulse_J_m2": basis["mpe"] if pulsed else None,
+        "pulse_rule": record["governing_pulse_rule"],
+        "skin_exposure_s": basis["skin_exposure_s"],
+        "skin_mpe_J_m2": skin["mpe_J_m2"],
+        "skin_mpe_W_m2": skin["mpe_W_m2"],
+        "nohd_m": record["nohd_m"],
+        "nohd_unbounded": record["nohd_unbounded"],
+        "diffuse_hazard_distance_m": record["diffuse_hazard_distance_m"],
+        "skin_hazard_distance_m": record["skin_hazard_distance_m"],
         "od_required": evaluation.od_required,
         "od_exact": evaluation.od_exact,
-        "en207_marking": " + ".join(assessment.en207.markings),
-        "en207_requirements": [requirement.to_dict() for requirement in assessment.en207.requirements],
-        "working": assessment.working.to_json(),
-        "warnings": list(assessment.warnings) + evaluation.warnings,
+        "en207_marking": " + ".join(record["en207"]["markings"]),
+        "en207_requirements": record["en207"]["requirements"],
+        "working": record.get("working", []),
+        "warnings": list(record["warnings"]) + evaluation.warnings,
         "engine_version": ENGINE_VERSION,
     }
+
+
+def _store(emission: Emission, limits: str, evaluation: EmissionEvaluation, by: Person | None,
+           existing: HazardResult | None) -> tuple[HazardResult | None, HazardResult]:
+    """Save the result, returning (what was stored before, if anything, as a detached copy; the new result)."""
+    before = None
+    if existing is not None:
+        before = HazardResult(od_required=existing.od_required, nohd_m=existing.nohd_m,
+                              nohd_unbounded=existing.nohd_unbounded)
+    result = existing or HazardResult(emission=emission, limits=limits)
+    for name, value in _result_values(evaluation).items():
+        setattr(result, name, value)
+    result.computed_at = timezone.now()
+    return before, validated_save(result, by=by, validate_constraints=False)
 
 
 @transaction.atomic
 def emission_assess(*, emission: Emission, limits: str, by: Person | None = None) -> HazardResult:
     """Assess ``emission`` under ``limits`` and store (or replace) its HazardResult."""
-    values = _result_values(emission_evaluate(emission, limits=limits))
-    result = HazardResult.objects.filter(emission=emission, limits=limits).first() or HazardResult(
-        emission=emission, limits=limits)
-    for name, value in values.items():
-        setattr(result, name, value)
-    result.computed_at = timezone.now()
-    return validated_save(result, by=by)
+    evaluation = emission_evaluate(emission, limits=limits)
+    existing = HazardResult.objects.filter(emission=emission, limits=limits).first()
+    return _store(emission, limits, evaluation, by, existing)[1]
+
+
+@dataclass(frozen=True)
+class FigureChange:
+    """An emission whose required OD or NOHD moved when its results were recomputed."""
+
+    emission: Emission
+    limits: str
+    od_before: float | None
+    od_after: float | None
+    nohd_before: float | None
+    nohd_after: float | None
+    unbounded_before: bool
+    unbounded_after: bool
+
+
+@dataclass
+class RefreshSummary:
+    assessed: int = 0
+    not_assessed: list[tuple[Emission, str]] = field(default_factory=list)
+    changes: list[FigureChange] = field(default_factory=list)
 
 
 def _is_current(emission: Emission, results: dict[str, HazardResult]) -> bool:
@@ -197,45 +274,49 @@ def _is_current(emission: Emission, results: dict[str, HazardResult]) -> bool:
 
 
 @transaction.atomic
-def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None = None,
-                           only_stale: bool = False) -> RefreshSummary:
-    """Recompute the results of ``emissions`` under every limit set.
+def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None = None, only_stale: bool = False,
+                           limit_sets: Sequence[str] = LIMIT_SETS,
+                           progress: Callable[[int], None] | None = None) -> RefreshSummary:
+    """Recompute the results of ``emissions`` under ``limit_sets`` (every shipped set by default).
 
-    With ``only_stale``, an emission whose results are newer than the emission and its
-    laser and come from this engine version is left alone. An emission that cannot be
-    assessed loses any old results and is listed with the reason, which is also kept in
-    ``emission.assessment_problem`` (cleared once it assesses).
+    The engine runs once over all of them. With ``only_stale``, an emission whose results are
+    newer than the emission and its laser and come from this engine version is left alone. An
+    emission that cannot be assessed loses any old results and is listed with the reason, which
+    is also kept in ``emission.assessment_problem`` (cleared once it assesses). ``changes`` lists
+    every stored result whose required OD or NOHD moved; ``progress`` is called with the number
+    of emissions stored since its last call. Atomic: all or nothing.
     """
     summary = RefreshSummary()
-    for emission in emissions:
-        if only_stale and _is_current(emission, {result.limits: result for result in emission.hazard_results.all()}):
-            continue
-        try:
-            with transaction.atomic():
-                for limits in LIMIT_SETS:
-                    emission_assess(emission=emission, limits=limits, by=by)
-        except ValidationError as error:
-            _not_assessed(emission, _reason(error), summary)
-            continue
-        except Exception as error:  # noqa: BLE001
-            # A fault inside the engine for one emission must not stop the register from
-            # saving the emission; it is logged and reported, and no figure is shown.
-            logger.warning("hazards engine failed on emission %s (%s): %s: %s", emission.pk, emission,
-                           type(error).__name__, error)
-            _not_assessed(emission, f"engine error: {type(error).__name__}: {error}", summary)
-            continue
-        _set_problem(emission, "")
-        summary.assessed += 1
+    chosen = [emission for emission in emissions
+              if not (only_stale and _is_current(emission, {r.limits: r for r in emission.hazard_results.all()}))]
+    evaluations = evaluate_emissions(chosen, limit_sets=limit_sets)
+    for position, emission in enumerate(chosen):
+        if position in evaluations.problems:
+            _not_assessed(emission, evaluations.problems[position], summary)
+        else:
+            existing = {result.limits: result for result in emission.hazard_results.all()}
+            for limits in limit_sets:
+                before, after = _store(emission, limits, evaluations.results[(position, limits)], by,
+                                       existing.get(limits))
+                if before is not None and _moved(before, after):
+                    summary.changes.append(FigureChange(emission, limits, before.od_required, after.od_required,
+                                                        before.nohd_m, after.nohd_m, before.nohd_unbounded,
+                                                        after.nohd_unbounded))
+            _set_problem(emission, "")
+            summary.assessed += 1
+        if progress is not None:
+            progress(1)
     return summary
 
 
-def _reason(error: ValidationError) -> str:
-    """The refusal in words, each message led by the emission field it names."""
-    if not hasattr(error, "error_dict"):
-        return "; ".join(error.messages)
-    names = {field.name: str(field.verbose_name) for field in Emission._meta.get_fields() if hasattr(field, "verbose_name")}
-    return "; ".join(f"{names.get(name, name)}: {message}" for name, messages in error.message_dict.items()
-                     for message in messages)
+def _moved(before: HazardResult, after: HazardResult) -> bool:
+    def differs(old: float | None, new: float | None) -> bool:
+        if old is None or new is None:
+            return old is not new
+        return abs(old - new) > 1e-9 * max(abs(old), abs(new), 1e-300)
+
+    return (differs(before.od_required, after.od_required) or differs(before.nohd_m, after.nohd_m)
+            or before.nohd_unbounded != after.nohd_unbounded)
 
 
 def _not_assessed(emission: Emission, reason: str, summary: RefreshSummary) -> None:

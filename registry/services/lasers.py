@@ -8,7 +8,8 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.utils import timezone
 
-from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from hazards.assessment import beam_fields
+from registry.models import EMISSION_BEAM_FIELDS, RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
 
@@ -34,18 +35,10 @@ LASER_EDITABLE_FIELDS = frozenset({
     "embedded_class", "owner", "location", "description", "received_on", "commissioned_on",
 })
 
-# Emission inputs that are physical quantities, with the SI unit each is stored in.
-EMISSION_QUANTITIES: dict[str, str] = {
-    "wavelength_m": "m",
-    "wavelength_max_m": "m",
-    "average_power_W": "W",
-    "pulse_energy_J": "J",
-    "pulse_duration_s": "s",
-    "prf_Hz": "Hz",
-    "beam_diameter_m": "m",
-    "divergence_rad": "rad",
-    "source_size_rad": "rad",
-}
+# Emission inputs that are physical quantities (SI units), and the engine's name for each: its
+# unit and bounds come from hazards.assessment.beam_fields, its rules from Emission.clean().
+ENGINE_NAMES = {field: name for name, field in EMISSION_BEAM_FIELDS.items()}
+EMISSION_QUANTITIES = frozenset(ENGINE_NAMES) - {"fibre_na"}
 EMISSION_OTHER_FIELDS = frozenset({"label", "temporal_mode", "diameter_definition", "fibre_na", "notes"})
 
 
@@ -137,9 +130,12 @@ def emission_values(**fields: Any) -> dict[str, Any]:
     """
     _check_fields(fields, frozenset(EMISSION_QUANTITIES) | EMISSION_OTHER_FIELDS, what="an emission")
     values: dict[str, Any] = {}
+    specs = beam_fields()
     for name, value in fields.items():
         if name in EMISSION_QUANTITIES:
-            value = quantity(value, field=name, unit=EMISSION_QUANTITIES[name])
+            spec = specs[ENGINE_NAMES[name]]
+            value = quantity(value, field=name, unit=spec.unit, minimum=spec.minimum, maximum=spec.maximum,
+                             inclusive_minimum=spec.inclusive_minimum)
             if name == "source_size_rad" and value is None:
                 value = 0.0
         values[name] = value

@@ -182,6 +182,12 @@ def test_the_emission_page_saves_values_typed_with_units_as_si_floats(lso_client
     ("wavelength_m", "532 mW", "wavelength: &#x27;532 mW&#x27; is not a length"),
     ("pulse_duration_s", "-10 ns", "pulse duration: &#x27;-10 ns&#x27; is out of range"),
     ("beam_diameter_m", "6 mmm", "beam diameter at the aperture: unknown unit &#x27;mmm&#x27;"),
+    # The engine's bounds and rules (hazards.assessment.inputs), the same as the API's and the command line's:
+    ("divergence_rad", "1e308", "full-angle divergence: &#x27;1e308&#x27; is out of range"),
+    ("beam_diameter_m", "5 lightyear", "is out of range: allowed from 1 µm to 10 m"),
+    ("divergence_rad", "5 percent", "is not an angle"),
+    ("pulse_duration_s", "0.2 s", "is not shorter than the pulse period 100 ms at 10 Hz"),
+    ("average_power_W", "50 W", "disagrees with pulse energy x prf = 2 W"),
 ])
 def test_a_bad_value_on_the_emission_page_is_shown_on_its_field_and_saves_nothing(
         lso_client: Client, name: str, typed: str, message: str) -> None:

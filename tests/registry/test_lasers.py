@@ -192,6 +192,8 @@ def test_a_pulse_longer_than_its_period_is_refused_before_the_database(researche
     with pytest.raises(ValidationError) as raised:
         emission_update(emission=emission, by=researcher, temporal_mode="repetitive", pulse_duration_s="2 ms",
                         prf_Hz="1 kHz", pulse_energy_J="1 mJ")
-    assert raised.value.messages == ["Pulse duration must not be longer than the pulse period 1/PRF."]
+    # The engine's rule (hazards.assessment.inputs), the one every way in applies.
+    assert raised.value.message_dict == {
+        "pulse_duration_s": ["2 ms is not shorter than the pulse period 1 ms at 1 kHz (a train needs gaps between pulses)"]}
     emission.refresh_from_db()
     assert emission.temporal_mode == "cw"
