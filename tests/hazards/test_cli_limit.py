@@ -9,6 +9,7 @@ from pathlib import Path
 import pytest
 
 from hazards.cli import main
+from hazards.limits import short_duration_warning
 
 PROJECT_ROOT = Path(__file__).resolve().parents[2]
 
@@ -179,3 +180,16 @@ def test_text_output_shows_both_halves_of_a_dual_limit(capsys: pytest.CaptureFix
     assert status == 0
     assert "photochemical, 2006/25/EC Annex II Table 2.3" in out and "H = 100 J/m^2 over 7 mm" in out
     assert "H = 500 J/m^2 over 7 mm" in out
+
+
+def test_a_duration_below_the_tables_is_assessed_at_100_fs_and_says_so(capsys: pytest.CaptureFixture[str]) -> None:
+    # ICNIRP 2013 starts at 100 fs; a 35 fs exposure gets the 100 fs limit and the one warning that the
+    # assessment and the register print too (hazards.limits.short_duration_warning).
+    status, out, _ = run(capsys, "--wavelength", "800nm", "--duration", "35fs", "--json")
+    record = json.loads(out)
+    assert status == 0
+    assert record["duration_s"] == pytest.approx(1e-13)
+    assert record["warnings"] == [short_duration_warning(35e-15, 1e-13)]
+    status, out, _ = run(capsys, "--wavelength", "800nm", "--duration", "1s", "--pulse-duration", "35fs",
+                         "--prf", "80MHz")
+    assert status == 0 and f"Warning: {short_duration_warning(35e-15, 1e-13)}" in out
