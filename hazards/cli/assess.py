@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import argparse
-import csv
 import json
 from collections.abc import Iterator
 from pathlib import Path
@@ -17,6 +16,7 @@ from hazards.assessment import (
 )
 from hazards.beam import DIAMETER_DEFINITIONS
 from hazards.caution import CAUTION
+from hazards.cli.batch_file import batch_rows
 from hazards.classes import LASER_CLASSES
 from hazards.errors import InputError
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
@@ -130,12 +130,7 @@ def _batch_lines(path: Path, *, as_json: bool, working: bool) -> Iterator[str]:
 
 def read_batch(path: Path) -> list[dict[str, object]]:
     """The rows of a batch CSV as requests for parse_assessment_request (empty cells left out)."""
-    try:
-        handle = path.open(newline="", encoding="utf-8")
-    except OSError as error:
-        raise InputError("batch", f"cannot read {str(path)!r}: {error.strerror}") from None
-    with handle:
-        reader = csv.DictReader(handle)
+    with batch_rows(path) as reader:
         header = [name.strip() for name in reader.fieldnames or []]
         unknown = [name for name in header if name not in BATCH_COLUMNS]
         missing = [name for name in ("wavelength_m", "beam_diameter_m", "divergence_rad") if name not in header]

@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import argparse
-import csv
 import json
 import math
 from collections.abc import Mapping
@@ -13,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from hazards.caution import CAUTION
+from hazards.cli.batch_file import batch_rows
 from hazards.errors import InputError
 from hazards.limits import (
     DEFAULT_LIMITS,
@@ -163,12 +163,7 @@ class _BatchColumns:
 def read_batch(path: Path, *, limits: str) -> _BatchColumns:
     """Read and check the CSV; an error names the line (as a spreadsheet numbers it) and the column."""
     limit_set = load_limit_set(limits)
-    try:
-        handle = path.open(newline="", encoding="utf-8")
-    except OSError as error:
-        raise InputError("batch", f"cannot read {str(path)!r}: {error.strerror}") from None
-    with handle:
-        reader = csv.DictReader(handle)
+    with batch_rows(path) as reader:
         header = reader.fieldnames or []
         missing = [column for column in BATCH_COLUMNS if column not in header]
         if missing:
