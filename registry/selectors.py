@@ -73,6 +73,11 @@ def person_list() -> QuerySet[Person]:
     return Person.objects.select_related("user", "research_group", "supervisor__user")
 
 
+def people_with_role(*, role: Role) -> QuerySet[Person]:
+    """People of ``role`` whose account is active (who may act, and whom mail reaches)."""
+    return person_list().filter(role=role, user__is_active=True)
+
+
 def people_visible_to(*, viewer: Person) -> QuerySet[Person]:
     """The people records ``viewer`` may see: everyone for an LSO or inspector, the own
     research group for a researcher, only themselves for a laser user."""
