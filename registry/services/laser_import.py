@@ -337,6 +337,10 @@ class _Import:
         elif isinstance(error, ValidationError):
             for message in error.messages:
                 self.problem(line, "", message)
+        elif isinstance(error, IntegrityError):
+            # full_clean found nothing wrong, so another change was saved in the meantime.
+            self.problem(line, "", f"the database refused the row, which another change saved at the same time "
+                                   f"made invalid ({str(error).splitlines()[0]}); run the import again.")
         else:
             self.problem(line, "", str(error))
 

@@ -134,7 +134,7 @@ def reminders_send(*, today: datetime.date | None = None) -> ReminderRun:
 
 
 def _send_once(reminder: Reminder, *, day: datetime.date, connection: BaseEmailBackend, run: ReminderRun) -> None:
-    if SentReminder.objects.filter(recipient=reminder.recipient, kind=reminder.kind, sent_on=day).exists():
+    if _recorded(reminder, day=day):
         run.already_sent += 1
         return
     address = reminder.recipient.user.email
@@ -146,12 +146,18 @@ def _send_once(reminder: Reminder, *, day: datetime.date, connection: BaseEmailB
         with transaction.atomic():
             validated_save(record, by=None)
             message.send()
-    except IntegrityError:
-        # A run started at the same moment recorded it first, so it went out once.
-        run.already_sent += 1
-    except ValidationError as error:
-        run.failed.append((reminder.recipient, "; ".join(error.messages)))
+    except (IntegrityError, ValidationError) as error:
+        if _recorded(reminder, day=day):
+            # A run started at the same moment recorded it first, so it went out once.
+            run.already_sent += 1
+        else:
+            reason = "; ".join(error.messages) if isinstance(error, ValidationError) else str(error)
+            run.failed.append((reminder.recipient, reason))
     except (smtplib.SMTPException, OSError) as error:
         run.failed.append((reminder.recipient, f"{type(error).__name__}: {error}"))
     else:
         run.sent[reminder.kind] += 1
+
+
+def _recorded(reminder: Reminder, *, day: datetime.date) -> bool:
+    return SentReminder.objects.filter(recipient=reminder.recipient, kind=reminder.kind, sent_on=day).exists()

@@ -247,3 +247,14 @@ def test_writing_the_days_reminders_costs_the_same_queries_however_many_are_due(
     # Training records (with person, account, supervisor and laser); authorizations; audits due: the rooms
     # and their audits (2); overdue findings; SOP reviews; eyewear; the LSOs.
     assert len(queries) == 8
+
+
+def test_an_address_that_is_no_e_mail_address_is_reported_and_not_recorded(clock: time_machine.Coordinates) -> None:
+    typo = person("typo", user__email="typo at campus.example")
+    factories.TrainingRecordFactory.create(person=typo, completed_on=days(-360), valid_until=days(3))
+    err = StringIO()
+    with pytest.raises(CommandError, match="1 reminders could not be sent"):
+        call_command("send_reminders", stdout=StringIO(), stderr=err)
+    assert err.getvalue() == f"  not sent to {typo} (typo): Enter a valid email address.\n"
+    assert mail.outbox == []
+    assert not SentReminder.objects.exists()
