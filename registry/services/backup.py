@@ -219,7 +219,7 @@ def _unpack(archive: Path, scratch: Path) -> dict[str, Any]:
         if MANIFEST not in members or RECORDS not in members:
             raise BackupError(f"{archive} is not a register backup: it has no {MANIFEST} or {RECORDS}.")
         try:
-            manifest = json.loads(_read_member(tar, members[MANIFEST]))
+            manifest: dict[str, Any] = json.loads(_read_member(tar, members[MANIFEST]))
         except ValueError as error:
             raise BackupError(f"{archive}: its {MANIFEST} cannot be read: {error}") from None
         if not isinstance(manifest, dict) or manifest.get("format") != FORMAT or manifest.get("version") != VERSION:
@@ -230,7 +230,7 @@ def _unpack(archive: Path, scratch: Path) -> dict[str, Any]:
             raise BackupError(f"{archive}: the files in the archive are not the files its manifest lists.")
         for name, described in manifest["files"].items():
             _extract(tar, members[f"{MEDIA}/{name}"], scratch / MEDIA / name, described["sha256"], archive=archive)
-    return manifest  # type: ignore[no-any-return]
+    return manifest
 
 
 def _read_member(tar: tarfile.TarFile, member: tarfile.TarInfo) -> bytes:

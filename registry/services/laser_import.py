@@ -306,6 +306,11 @@ class _Refused(Exception):
 
 
 class _Import:
+    """One import run: reads the header and rows of ``table``, then applies each laser through the services.
+
+    Every problem goes to ``report.problems`` as it is found, so that one run names them all.
+    """
+
     def __init__(self, *, table: Table, by: Person, report: ImportReport, create_locations: bool) -> None:
         self.table = table
         self.by = by
@@ -356,7 +361,7 @@ class _Import:
             name, unit = _split_unit(text)
             column = _COLUMNS_BY_KEY.get(header_key(name))
             if column is None:
-                accepted = ", ".join(column.name for column in COLUMNS)
+                accepted = ", ".join(known.name for known in COLUMNS)
                 self.report.problems.append(ImportProblem(line, text, f"unknown column; the columns are: {accepted}."))
                 continue
             if column.field in self.columns:
