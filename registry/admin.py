@@ -36,6 +36,7 @@ from registry.models import (
     Location,
     Person,
     ResearchGroup,
+    SentReminder,
     SOPAcknowledgement,
     TrainingRecord,
 )
@@ -403,3 +404,23 @@ class IncidentAdmin(RetainedAdmin):
     list_select_related = ["laser", "location"]
     autocomplete_fields = ["laser", "location", "reported_by", "people_involved"]
     readonly_fields = ["status", "closed_at", "retired_at", "retirement_reason"]
+
+
+@admin.register(SentReminder)
+class SentReminderAdmin(admin.ModelAdmin):
+    """What send_reminders has sent: a log, so it is read here and written only by the command."""
+
+    list_display = ["sent_on", "kind", "recipient", "address", "subject"]
+    list_filter = ["kind", "sent_on"]
+    search_fields = ["recipient__user__username", "address", "subject"]
+    list_select_related = ["recipient__user"]
+    date_hierarchy = "sent_on"
+
+    def has_add_permission(self, request: HttpRequest) -> bool:
+        return False
+
+    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return False
+
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return False

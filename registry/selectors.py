@@ -11,7 +11,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from django.conf import settings
-from django.db.models import Prefetch, Q, QuerySet
+from django.db.models import Exists, OuterRef, Prefetch, Q, QuerySet
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -73,6 +73,11 @@ def person_list() -> QuerySet[Person]:
     return Person.objects.select_related("user", "research_group", "supervisor__user")
 
 
+def people_with_role(*, role: Role) -> QuerySet[Person]:
+    """People of ``role`` whose account is active (who may act, and whom mail reaches)."""
+    return person_list().filter(role=role, user__is_active=True)
+
+
 def people_visible_to(*, viewer: Person) -> QuerySet[Person]:
     """The people records ``viewer`` may see: everyone for an LSO or inspector, the own
     research group for a researcher, only themselves for a laser user."""
@@ -96,12 +101,30 @@ def training_current(*, person: Person, on: datetime.date | None = None) -> Quer
     ).filter(Q(valid_until__isnull=True) | Q(valid_until__gte=day))
 
 
-def training_expiring(*, within_days: int, on: datetime.date | None = None) -> QuerySet[TrainingRecord]:
-    """Unretired records that are still valid on ``on`` but expire within ``within_days``."""
+def training_expiring(*, within_days: int, on: datetime.date | None = None,
+                      include_expired: bool = False) -> QuerySet[TrainingRecord]:
+    """Unretired records still valid on ``on`` (today) that expire within ``within_days`` and were not renewed.
+
+    With ``include_expired``, records that have already expired and were not renewed come too,
+    however long ago. A record is renewed when the person has a later unretired record of the
+    same course (any general or refresher course for general training; the same laser for
+    equipment training) that expires after it or never: then only the later one counts.
+    """
     day = on or timezone.localdate()
-    return training_list().filter(
-        retired_at__isnull=True, valid_until__gte=day, valid_until__lte=day + datetime.timedelta(days=within_days),
-    )
+    records = training_list().filter(
+        retired_at__isnull=True, valid_until__lte=day + datetime.timedelta(days=within_days),
+    ).exclude(_training_renewed())
+    return records if include_expired else records.filter(valid_until__gte=day)
+
+
+def _training_renewed() -> Q:
+    later = TrainingRecord.objects.filter(person=OuterRef("person"), retired_at__isnull=True).filter(
+        Q(valid_until__isnull=True) | Q(valid_until__gt=OuterRef("valid_until"))
+        # Two records with the same end: the later entered one counts, so one of them still shows.
+        | Q(valid_until=OuterRef("valid_until"), pk__gt=OuterRef("pk")))
+    general = later.filter(course__in=GENERAL_COURSES)
+    same_equipment = later.filter(course=OuterRef("course"), laser=OuterRef("laser"))
+    return (Q(course__in=GENERAL_COURSES) & Exists(general)) | (~Q(course__in=GENERAL_COURSES) & Exists(same_equipment))
 
 
 def sop_current(*, laser: Laser) -> SOP | None:
@@ -136,6 +159,24 @@ def authorizations_in_force(*, person: Person, on: datetime.date | None = None) 
     ).filter(Q(valid_until__isnull=True) | Q(valid_until__gte=day))
 
 
+def authorizations_lapsing(*, within_days: int, on: datetime.date | None = None) -> QuerySet[Authorization]:
+    """Approved, unretired authorizations whose validity ends within ``within_days`` of ``on`` (today) or has
+    ended while they are still marked approved; soonest first."""
+    day = on or timezone.localdate()
+    return authorization_list().filter(
+        status=AuthorizationStatus.APPROVED, retired_at__isnull=True,
+        valid_until__lte=day + datetime.timedelta(days=within_days),
+    ).order_by("valid_until", "pk")
+
+
+def sop_reviews_due(*, within_days: int, on: datetime.date | None = None) -> QuerySet[SOP]:
+    """SOP versions in force whose review is due within ``within_days`` of ``on`` (today) or overdue; soonest first."""
+    day = on or timezone.localdate()
+    return SOP.objects.select_related("laser").filter(
+        status=SOPStatus.APPROVED, retired_at__isnull=True, review_due__lte=day + datetime.timedelta(days=within_days),
+    ).order_by("review_due", "pk")
+
+
 def eyewear_list() -> QuerySet[Eyewear]:
     return Eyewear.objects.select_related("location").prefetch_related("markings")
 
@@ -152,6 +193,12 @@ def finding_list() -> QuerySet[Finding]:
 
 def finding_open_list() -> QuerySet[Finding]:
     return finding_list().filter(status=FindingStatus.OPEN, retired_at__isnull=True)
+
+
+def findings_overdue(*, on: datetime.date | None = None) -> QuerySet[Finding]:
+    """Open findings whose corrective action was due before ``on`` (today); the longest overdue first."""
+    day = on or timezone.localdate()
+    return finding_open_list().filter(due_on__lt=day).order_by("due_on", "pk")
 
 
 def incident_list() -> QuerySet[Incident]:
@@ -260,7 +307,7 @@ class AuditDue:
 def audits_due(*, today: datetime.date | None = None, within_days: int = 30) -> list[AuditDue]:
     """Locations with a class 3B/4 laser in the register's care that are due within ``within_days``, or overdue.
 
-    Three queries: the locations, the signed-off audits and the open ones. Overdue first, then by due date.
+    Two queries: the locations and the audits covering them. Overdue first, then by due date.
     """
     day = today or timezone.localdate()
     hazardous = (Q(lasers__labelled_class__in=HAZARDOUS_CLASSES) | Q(lasers__embedded_class__in=HAZARDOUS_CLASSES)) \
@@ -280,6 +327,35 @@ def audits_due(*, today: datetime.date | None = None, within_days: int = 30) -> 
         due.append(AuditDue(location=location, last=last, due_on=due_on, overdue=due_on is None or due_on < day,
                             planned=planned))
     return sorted(due, key=lambda item: (not item.overdue, item.due_on or datetime.date.min))
+
+
+@dataclass(frozen=True)
+class InspectionDue:
+    """An eyewear item due for its recorded inspection; ``due_on`` is None for an item never inspected (overdue)."""
+
+    eyewear: Eyewear
+    due_on: datetime.date | None
+    overdue: bool
+
+
+def eyewear_inspections_due(*, today: datetime.date | None = None, within_days: int = 30) -> list[InspectionDue]:
+    """Unretired eyewear whose inspection (settings.EYEWEAR_INSPECTION_MONTHS after the last) is due within
+    ``within_days`` or overdue. One query; never inspected first, then by due date."""
+    day = today or timezone.localdate()
+    horizon = day + datetime.timedelta(days=within_days)
+    months = settings.EYEWEAR_INSPECTION_MONTHS
+    # Month arithmetic clamps to month ends (31 August + 6 months is 28 February), so the database
+    # is asked a few days wide and the exact due date decides.
+    last_due = _add_months(horizon, -months)
+    assert last_due is not None
+    items = Eyewear.objects.select_related("location").filter(retired_at__isnull=True).filter(
+        Q(last_inspected_on__isnull=True) | Q(last_inspected_on__lte=last_due + datetime.timedelta(days=3)))
+    due: list[InspectionDue] = []
+    for item in items:
+        due_on = _add_months(item.last_inspected_on, months)
+        if due_on is None or due_on <= horizon:
+            due.append(InspectionDue(eyewear=item, due_on=due_on, overdue=due_on is None or due_on < day))
+    return sorted(due, key=lambda entry: (entry.due_on or datetime.date.min, entry.eyewear.inventory_tag))
 
 
 def _covers(audit: Audit, location: Location) -> bool:

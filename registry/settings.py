@@ -116,6 +116,10 @@ SIGNAL_WORDS = env_mapping("BEAMKEEPER_SIGNAL_WORDS", {"2": "CAUTION", "2M": "CA
                                                        "3B": "WARNING", "4": "DANGER"}, keys=LASER_CLASSES)
 # A location with a class 3B or 4 laser is due for audit this many months after its last one.
 AUDIT_INTERVAL_MONTHS = env_int("BEAMKEEPER_AUDIT_INTERVAL_MONTHS", 12, minimum=1)
+# Laser protective eyewear is looked over by its wearer before each use; this is the interval of the
+# recorded inspection (filters, frame, marking legible), counted from the last one. Common practice,
+# no source: six months; local rules may ask for another.
+EYEWEAR_INSPECTION_MONTHS = env_int("BEAMKEEPER_EYEWEAR_INSPECTION_MONTHS", 6, minimum=1)
 
 LANGUAGE_CODE = "en"
 TIME_ZONE = env_time_zone("TIME_ZONE", "UTC")

@@ -27,6 +27,7 @@ from registry.models import (
     Location,
     Person,
     ResearchGroup,
+    SentReminder,
     SOPAcknowledgement,
     TrainingRecord,
 )
@@ -212,3 +213,16 @@ class IncidentFactory(factory.django.DjangoModelFactory):
     occurred_at = factory.LazyFunction(timezone.now)
     reported_by = factory.SubFactory(PersonFactory)
     description = "A stray reflection reached the wall."
+
+
+class SentReminderFactory(factory.django.DjangoModelFactory):
+    class Meta:
+        model = SentReminder
+
+    kind = "training"
+    recipient = factory.SubFactory(PersonFactory)
+    sent_on = factory.LazyFunction(timezone.localdate)
+    sent_at = factory.LazyFunction(timezone.now)
+    address = factory.LazyAttribute(lambda reminder: reminder.recipient.user.email)
+    subject = "Laser safety training to renew"
+    body = "Hello"

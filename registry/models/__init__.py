@@ -33,6 +33,7 @@ from registry.models.laser import (
 )
 from registry.models.location import InterlockKind, Location
 from registry.models.people import Person, ResearchGroup, Role
+from registry.models.reminder import ReminderKind, SentReminder
 from registry.models.sop import SOP, SOPAcknowledgement, SOPStatus
 from registry.models.training import GENERAL_COURSES, CourseKind, TrainingRecord
 
@@ -42,6 +43,6 @@ __all__ = [
     "Eyewear", "EyewearCondition", "EyewearMarking", "HazardResult", "Incident", "IncidentKind", "IncidentStatus",
     "EMISSION_BEAM_FIELDS", "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
     "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode",
-    "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "SOP", "SOPAcknowledgement", "SOPStatus",
+    "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "ReminderKind", "SentReminder", "SOP", "SOPAcknowledgement", "SOPStatus",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",
 ]

@@ -12,6 +12,7 @@ from hazards.assessment import beam_fields
 from registry.models import EMISSION_BEAM_FIELDS, RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
+from registry.services.errors import StateError
 
 S = LaserStatus
 
@@ -56,9 +57,17 @@ def laser_register(*, by: Person, asset_tag: str, **fields: Any) -> Laser:
     return validated_save(laser, by=by)
 
 
+def require_in_care(laser: Laser) -> None:
+    """Refuse a change to a disposed or transferred laser: it keeps what it said when it left."""
+    if laser.status in RETIRED_STATUSES:
+        raise StateError(field="status", message=(
+            f"{laser.asset_tag} is {laser.get_status_display()}; a retired laser and its emissions are not changed."))
+
+
 @transaction.atomic
 def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
+    require_in_care(laser)
     for name, value in fields.items():
         setattr(laser, name, value)
     validated_save(laser, by=by)
@@ -151,6 +160,7 @@ def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
 def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
     """Add an emission and assess it. Quantities are SI numbers or strings with units
     ("532 nm", "5 mW"). An emission the engine cannot assess yet is saved without results."""
+    require_in_care(laser)
     emission = Emission(laser=laser)
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
@@ -161,6 +171,7 @@ def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emissi
 @transaction.atomic
 def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
     """Change an emission; its hazard results are recomputed (or dropped if it cannot be assessed)."""
+    require_in_care(emission.laser)
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)

@@ -58,6 +58,7 @@ REFUSED_ROWS: list[tuple[type[factories.factory.django.DjangoModelFactory], dict
     (factories.TrainingRecordFactory, {"course": "equipment"}, "registry_trainingrecord_equipment_names_laser"),
     (factories.AuthorizationFactory, {"status": "approved"}, "registry_authorization_decision_has_decider"),
     (factories.SOPFactory, {"status": "approved"}, "registry_sop_approved_has_approver"),
+    (factories.SentReminderFactory, {"kind": "weekly"}, "registry_sentreminder_kind_valid"),
     (factories.SOPFactory, {"version": 0}, "registry_sop_version_positive"),
     (factories.EyewearFactory, {"quantity": 0}, "registry_eyewear_quantity_positive"),
     (factories.EyewearMarkingFactory, {"optical_density": None}, "registry_eyewearmarking_has_od_or_lb"),
@@ -148,3 +149,15 @@ def test_one_hazard_result_per_emission_and_limit_set() -> None:
         factories.HazardResultFactory.create(emission=result.emission, limits=result.limits)
     factories.HazardResultFactory.create(emission=result.emission, limits="eu2006")
     assert result.emission.hazard_results.count() == 2
+
+
+def test_the_same_reminder_is_recorded_once_a_day() -> None:
+    sent = factories.SentReminderFactory.create()
+    with pytest.raises(IntegrityError) as raised, transaction.atomic():
+        factories.SentReminderFactory.create(recipient=sent.recipient, kind=sent.kind, sent_on=sent.sent_on)
+    message = str(raised.value)
+    # PostgreSQL names the unique index; SQLite names its columns.
+    assert ("registry_sentreminder_once_a_day" in message
+            or "registry_sentreminder.recipient_id, registry_sentreminder.kind" in message)
+    factories.SentReminderFactory.create(recipient=sent.recipient, kind="digest", sent_on=sent.sent_on)
+    assert sent.recipient.reminders_received.count() == 2

@@ -6,6 +6,7 @@ from django.core.exceptions import PermissionDenied, ValidationError
 
 from registry.models import Emission, Laser, LaserStatus, RecordRetainedError
 from registry.services import (
+    StateError,
     TransitionError,
     emission_create,
     emission_update,
@@ -15,6 +16,7 @@ from registry.services import (
     laser_return,
     laser_set_status,
     laser_submit,
+    laser_update,
 )
 from tests import factories
 
@@ -197,3 +199,22 @@ def test_a_pulse_longer_than_its_period_is_refused_before_the_database(researche
         "pulse_duration_s": ["2 ms is not shorter than the pulse period 1 ms at 1 kHz (a train needs gaps between pulses)"]}
     emission.refresh_from_db()
     assert emission.temporal_mode == "cw"
+
+
+@pytest.mark.parametrize("status", ["disposed", "transferred"])
+def test_a_retired_laser_and_its_emissions_are_not_changed(lso: factories.Person, status: str) -> None:
+    emission = factories.EmissionFactory.create(laser__status=status, laser__retired_on="2024-01-31")
+    laser = emission.laser
+    history = (laser.history.count(), emission.history.count())
+    with pytest.raises(StateError, match="a retired laser and its emissions are not changed"):
+        laser_update(laser=laser, by=lso, description="found again")
+    with pytest.raises(StateError):
+        emission_update(emission=emission, by=lso, average_power_W="20 mW")
+    with pytest.raises(StateError):
+        emission_create(laser=laser, by=lso, wavelength_m="1064 nm", temporal_mode="cw", average_power_W="1 W")
+    laser.refresh_from_db()
+    emission.refresh_from_db()
+    assert laser.description == ""
+    assert emission.average_power_W == 0.01
+    assert laser.emissions.count() == 1
+    assert (laser.history.count(), emission.history.count()) == history

@@ -8,7 +8,15 @@ from django.db import connection
 from django.test.utils import CaptureQueriesContext
 from django.utils import timezone
 
-from registry.selectors import audit_list, audits_due, laser_list, location_eyewear_matrix, signal_word
+from registry.selectors import (
+    audit_list,
+    audits_due,
+    eyewear_inspections_due,
+    laser_list,
+    location_eyewear_matrix,
+    signal_word,
+    training_expiring,
+)
 from tests import factories
 
 pytestmark = pytest.mark.django_db
@@ -156,3 +164,53 @@ def test_a_site_wide_audit_covers_every_room_of_its_site() -> None:
                                   conducted_on=datetime.date(2026, 10, 1), signed_off_at=timezone.now(),
                                   signed_off_by=factories.PersonFactory.create(role="lso"))
     assert audits_due(today=datetime.date(2026, 12, 2)) == []
+
+
+def test_training_counts_as_expiring_until_a_later_record_renews_it() -> None:
+    day = datetime.date(2031, 3, 10)
+    person = factories.PersonFactory.create()
+    old = factories.TrainingRecordFactory.create(person=person, completed_on=datetime.date(2029, 3, 1),
+                                                 valid_until=datetime.date(2031, 3, 1))
+    soon = factories.TrainingRecordFactory.create(completed_on=datetime.date(2030, 3, 1),
+                                                  valid_until=datetime.date(2031, 3, 20))
+    laser = factories.LaserFactory.create()
+    equipment = factories.TrainingRecordFactory.create(person=person, course="equipment", laser=laser,
+                                                       completed_on=datetime.date(2030, 3, 1),
+                                                       valid_until=datetime.date(2031, 3, 25))
+    assert set(training_expiring(within_days=30, on=day)) == {soon, equipment}
+    assert set(training_expiring(within_days=30, on=day, include_expired=True)) == {old, soon, equipment}
+
+    # A refresher renews general training; equipment training is renewed only on the same laser.
+    factories.TrainingRecordFactory.create(person=person, course="refresher", completed_on=datetime.date(2031, 3, 2),
+                                           valid_until=datetime.date(2032, 3, 2))
+    factories.TrainingRecordFactory.create(person=person, course="equipment", laser=factories.LaserFactory.create(),
+                                           completed_on=datetime.date(2031, 3, 2), valid_until=None)
+    assert set(training_expiring(within_days=30, on=day, include_expired=True)) == {soon, equipment}
+    factories.TrainingRecordFactory.create(person=person, course="equipment", laser=laser,
+                                           completed_on=datetime.date(2031, 3, 9),
+                                           valid_until=datetime.date(2032, 3, 9))
+    assert set(training_expiring(within_days=30, on=day, include_expired=True)) == {soon}
+
+
+def test_a_retired_renewal_renews_nothing() -> None:
+    day = datetime.date(2031, 3, 10)
+    old = factories.TrainingRecordFactory.create(completed_on=datetime.date(2029, 3, 1),
+                                                 valid_until=datetime.date(2031, 3, 1))
+    factories.TrainingRecordFactory.create(person=old.person, completed_on=datetime.date(2031, 3, 2),
+                                           valid_until=datetime.date(2033, 3, 2), retired_at=timezone.now())
+    assert list(training_expiring(within_days=30, on=day, include_expired=True)) == [old]
+
+
+def test_an_eyewear_inspection_is_due_months_after_the_last_even_from_a_month_end(settings: object) -> None:
+    settings.EYEWEAR_INSPECTION_MONTHS = 6  # type: ignore[attr-defined]
+    # 31 August + 6 months is 28 February (2031 is not a leap year).
+    month_end = factories.EyewearFactory.create(last_inspected_on=datetime.date(2030, 8, 31))
+    recent = factories.EyewearFactory.create(last_inspected_on=datetime.date(2030, 9, 1))
+    never = factories.EyewearFactory.create(last_inspected_on=None)
+    retired = factories.EyewearFactory.create(last_inspected_on=None, retired_at=timezone.now())
+    due = eyewear_inspections_due(today=datetime.date(2031, 1, 29), within_days=30)
+    assert [(entry.eyewear, entry.due_on, entry.overdue) for entry in due] == [
+        (never, None, True), (month_end, datetime.date(2031, 2, 28), False)]
+    assert retired not in [entry.eyewear for entry in due] and recent not in [entry.eyewear for entry in due]
+    assert [entry.eyewear for entry in eyewear_inspections_due(today=datetime.date(2031, 3, 2), within_days=0)] == [
+        never, month_end, recent]
