@@ -39,7 +39,8 @@ LASER_EDITABLE_FIELDS = frozenset({
 # Emission inputs that are physical quantities (SI units), and the engine's name for each: its
 # unit and bounds come from hazards.assessment.beam_fields, its rules from Emission.clean().
 ENGINE_NAMES = {field: name for name, field in EMISSION_BEAM_FIELDS.items()}
-EMISSION_QUANTITIES = frozenset(ENGINE_NAMES) - {"fibre_na"}
+# field -> the SI unit it is stored in (fibre_na is a plain number, set as other fields are)
+EMISSION_QUANTITIES = {field: beam_fields()[name].unit for field, name in ENGINE_NAMES.items() if field != "fibre_na"}
 EMISSION_OTHER_FIELDS = frozenset({"label", "temporal_mode", "diameter_definition", "fibre_na", "notes"})
 
 
