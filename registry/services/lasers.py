@@ -8,9 +8,10 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.utils import timezone
 
-from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from registry.models import HAZARDOUS_CLASSES, RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
+from registry.services.errors import PrerequisiteError
 
 S = LaserStatus
 
@@ -95,6 +96,12 @@ def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
     require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
     if not laser.emissions.exists():
         raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
+    if laser.labelled_class in HAZARDOUS_CLASSES or laser.embedded_class in HAZARDOUS_CLASSES:
+        # The review approves a hazard evaluation: a class 3B or 4 beam without one is not approved.
+        unassessed = [f"{emission} has no hazard assessment: {emission.assessment_problem or 'not assessed yet'}"
+                      for emission in laser.emissions.select_related("laser").filter(hazard_results__isnull=True)]
+        if unassessed:
+            raise PrerequisiteError(field="emissions", missing=unassessed)
     laser.review_comments = ""
     return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
 

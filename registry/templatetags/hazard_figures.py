@@ -11,13 +11,14 @@ from django.utils.translation import gettext as _
 
 from hazards.caution import CAUTION
 from hazards.limits.limit_set import load_limit_set
-from hazards.units import format_si
+from hazards.units import format_for_people
 from hazards.working import Step, StepDict, Working
 from registry.models import HazardResult
 
 register = template.Library()
 
 NOT_COMPUTED = "not computed"
+NO_EYEWEAR_NEEDED = "no eyewear needed"
 
 @register.simple_tag
 def hazard_caution() -> str:
@@ -25,45 +26,44 @@ def hazard_caution() -> str:
 
 
 @register.filter
+def quantity(value: float | None, unit: str) -> str:
+    """Any figure for people: three significant figures with a metric prefix ("198 nJ/m²"), or "not computed"."""
+    if value is None:
+        return NOT_COMPUTED
+    return format_for_people(value, unit)
+
+
+@register.filter
 def distance(metres: float | None, unbounded: bool = False) -> str:
     """A hazard distance to three significant figures: "517 m", "1.41 km", "0 m"."""
     if unbounded:
         return _("unbounded (the collimated beam stays above the MPE at any distance)")
-    if metres is None:
-        return NOT_COMPUTED
-    if metres == 0:
-        return "0 m"
-    return format_si(metres, "m", digits=3)
+    return quantity(metres, "m")
 
 
 @register.filter
 def duration(seconds: float | None) -> str:
-    """An exposure duration: "0.25 s", "10 s", "30000 s" (prefixes only below a second)."""
-    if seconds is None:
-        return NOT_COMPUTED
-    return f"{seconds:g} s" if seconds >= 1e-3 else format_si(seconds, "s", digits=3)
+    """An exposure duration: "250 ms", "10 s", "30 000 s"."""
+    return quantity(seconds, "s")
 
 
 @register.filter
 def optical_density(required: float | None, exact: float | None = None) -> str:
-    """The OD eyewear must reach, with the unrounded value it was rounded up from."""
+    """The OD eyewear must reach ("no eyewear needed" for OD 0), with the unrounded value it
+    was rounded up from when ``exact`` is given."""
     if required is None:
         return NOT_COMPUTED
+    if required <= 0:
+        return NO_EYEWEAR_NEEDED
     shown = f"OD {required:g}"
     return shown if exact is None else f"{shown} (exact {exact:.3g})"
-
-
-def _number(value: float) -> str:
-    """Three significant figures, in plain digits between 0.001 and 100 000: 19600, not 1.96e+04."""
-    rounded = float(f"{value:.3g}")
-    return f"{rounded:g}" if 1e-3 <= abs(rounded) < 1e5 else f"{rounded:.3g}"
 
 
 def mpe(radiant_exposure_J_m2: float | None, irradiance_W_m2: float | None, exposure_s: float | None) -> str:
     """An MPE as both radiant exposure and irradiance, over the duration it assumes."""
     if radiant_exposure_J_m2 is None or irradiance_W_m2 is None:
         return NOT_COMPUTED
-    return (f"{_number(radiant_exposure_J_m2)} J/m\u00b2 = {_number(irradiance_W_m2)} W/m\u00b2 "
+    return (f"{format_for_people(radiant_exposure_J_m2, 'J/m2')} = {format_for_people(irradiance_W_m2, 'W/m2')} "
             f"over {duration(exposure_s)}")
 
 
@@ -74,7 +74,7 @@ def eye_mpe(result: HazardResult) -> str:
     if result.eye_mpe_per_pulse_J_m2 is None:
         return whole
     rule = result.pulse_rule.replace("_", " ") or _("pulse rule not recorded")
-    return f"{_number(result.eye_mpe_per_pulse_J_m2)} J/m\u00b2 per pulse ({rule}); whole exposure {whole}"
+    return f"{format_for_people(result.eye_mpe_per_pulse_J_m2, 'J/m2')} per pulse ({rule}); whole exposure {whole}"
 
 
 @register.filter
