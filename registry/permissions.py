@@ -65,6 +65,15 @@ class Policy:
     rules: Mapping[str, Rule]
     scope: Mapping[str, Scope] = field(default_factory=dict)
 
+    def allows(self, person: Person | None, action: str, record: Any = None) -> bool:
+        """Whether ``person`` may take ``action`` (on ``record``, when the rule checks records)."""
+        rule = self.rules.get(action)
+        if person is None or rule is None or person.role not in rule.roles:
+            return False
+        if record is None or rule.on_object is None or person.role not in rule.checked_roles:
+            return True
+        return rule.on_object(person, record)
+
     def visible(self, person: Person | None, queryset: QuerySet[Any]) -> QuerySet[Any]:
         """``queryset`` narrowed to what ``person`` may see; roles without a scope see all of it."""
         if person is None:

@@ -49,7 +49,7 @@ from registry.models import (
 )
 
 
-def laser_list() -> QuerySet[Laser]:
+def laser_list(*, with_working: bool = False) -> QuerySet[Laser]:
     """Every laser with owner, account, group, location, emissions and their hazard results.
 
     The emissions are the list ``laser.current_emissions`` (by wavelength), each with its
@@ -57,12 +57,12 @@ def laser_list() -> QuerySet[Laser]:
     prefetch into ``.emissions.all()`` and ``.hazard_results.all()`` builds a queryset per
     row, a tenth of an API page's time. The emissions' lasers are not joined again (the
     prefetch links each to its laser). Results are loaded without ``working`` (kB of JSON
-    each, shown only by the working endpoint); reading it from these rows costs a query each.
+    each, shown only by the working endpoint and the laser page, which ask ``with_working``).
     """
+    results = HazardResult.objects.all() if with_working else HazardResult.objects.defer("working")
     return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
         Prefetch("emissions", to_attr="current_emissions"),
-        Prefetch("current_emissions__hazard_results", queryset=HazardResult.objects.defer("working"),
-                 to_attr="current_results"),
+        Prefetch("current_emissions__hazard_results", queryset=results, to_attr="current_results"),
     )
 
 
@@ -221,19 +221,32 @@ def _eyewear_matrix(location: Location, lasers: Iterable[Laser], items: list[Eye
                 not_assessed.append(emission)
                 continue
             emissions.append(emission)
-            requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
-            # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
-            ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
+            verdicts = eyewear_verdicts(emission, result, items, bands)
             for item in items:
-                cells[(emission.pk, item.pk)] = max(
-                    (eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
-                     for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
-            protected = any(cells[(emission.pk, item.pk)].status == "adequate"
-                            for item in items if item.condition != EyewearCondition.DAMAGED)
-            if result.od_required > 0 and not protected:
+                cells[(emission.pk, item.pk)] = verdicts[item.pk]
+            if result.od_required > 0 and not protects(verdicts, items):
                 unprotected.append(emission)
     return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
                          not_assessed=not_assessed, unprotected=unprotected)
+
+
+def eyewear_verdicts(emission: Emission, result: HazardResult, items: list[Eyewear],
+                     bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
+    """The engine's verdict on each eyewear item against one emission's (stored or previewed) result, by item id."""
+    if bands is None:
+        bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
+    assert result.od_required is not None
+    requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
+    # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
+    ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
+    return {item.pk: max((eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
+                          for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
+            for item in items}
+
+
+def protects(verdicts: dict[int, Adequacy], items: list[Eyewear]) -> bool:
+    """Whether an adequate item in usable condition is among ``items`` (damaged eyewear protects nobody)."""
+    return any(verdicts[item.pk].status == "adequate" for item in items if item.condition != EyewearCondition.DAMAGED)
 
 
 def result_under(emission: Emission, limits: str) -> HazardResult | None:

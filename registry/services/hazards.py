@@ -143,6 +143,13 @@ def emission_evaluate(emission: Emission, *, limits: str) -> EmissionEvaluation:
                               od_exact=float(densest.od_exact))
 
 
+def emission_preview(emission: Emission, *, limits: str) -> HazardResult:
+    """The HazardResult ``emission`` would get under ``limits``, unsaved (for a preview before
+    anything is written). Raises ValidationError keyed by the emission field the engine refused."""
+    return HazardResult(emission=emission, limits=limits, computed_at=timezone.now(),
+                        **_result_values(emission_evaluate(emission, limits=limits)))
+
+
 def _finite(value: object) -> float | None:
     if value is None:
         return None
