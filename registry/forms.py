@@ -179,10 +179,19 @@ class LaserRegistrationForm(forms.Form):
 class EmissionEntryForm(EmissionForm):
     """One emission of a laser being registered, typed as on the data sheet."""
 
+    source_size_rad = QuantityField(name=_("apparent source size"), unit="rad", display_unit="mrad", minimum=0.0,
+                                    required=False, help_text=_("Only for an extended source, e.g. '5 mrad'; "
+                                                                "empty for a point source."))
+
     class Meta(EmissionForm.Meta):
         fields = ["label", "wavelength_m", "wavelength_max_m", "temporal_mode", "average_power_W", "pulse_energy_J",
                   "pulse_duration_s", "prf_Hz", "beam_diameter_m", "diameter_definition", "divergence_rad",
                   "source_size_rad", "fibre_na"]
+
+    def clean_source_size_rad(self) -> float:
+        # Empty on a data sheet means a point source, which the register stores as 0 rad.
+        value = self.cleaned_data["source_size_rad"]
+        return 0.0 if value is None else value
 
 
 EmissionFormSet = forms.formset_factory(EmissionEntryForm, extra=0, min_num=1, validate_min=True, max_num=12,

@@ -179,8 +179,4 @@ def laser_new(request: PageRequest) -> HttpResponse:
 
 
 def _emission_fields(cleaned: dict[str, Any]) -> dict[str, Any]:
-    values = dict(cleaned)
-    values.pop("DELETE", None)
-    if values.get("source_size_rad") is None:
-        values["source_size_rad"] = 0.0
-    return values
+    return {name: value for name, value in cleaned.items() if name != "DELETE"}
