@@ -15,7 +15,7 @@ from hazards.caution import CAUTION
 from hazards.units import format_for_input
 from registry.models import Emission, Laser
 from registry.selectors import result_under
-from registry.templatetags.hazard_figures import distance, duration, en207_marking, optical_density
+from registry.templatetags.hazard_figures import NOT_COMPUTED, distance, duration, en207_marking, optical_density
 
 IMPORT_HEADERS = ("asset tag", "manufacturer", "model", "serial number", "laser type", "class", "status",
                   "building", "room", "owner", "emission", "mode", "wavelength", "average power", "pulse energy",
@@ -39,7 +39,7 @@ def register_dataset(lasers: Iterable[Laser], *, limits: str) -> tablib.Dataset:
                     laser.location.building if laser.location else "", laser.location.room if laser.location else "",
                     laser.owner.user.get_username() if laser.owner else ""]
         if not laser.current_emissions:
-            dataset.append([*identity, *[""] * (len(IMPORT_HEADERS) - len(identity) + len(HAZARD_HEADERS))])
+            dataset.append([*identity, *[""] * (len(IMPORT_HEADERS) - len(identity)), *_no_figures(limits)])
         for emission in laser.current_emissions:
             dataset.append([*identity, *_emission_cells(emission), *_hazard_cells(emission, limits)])
     return dataset
@@ -59,9 +59,13 @@ def _emission_cells(emission: Emission) -> list[str]:
             _text(emission.divergence_rad, "rad", "mrad")]
 
 
+def _no_figures(limits: str) -> list[str]:
+    return [NOT_COMPUTED] * (len(HAZARD_HEADERS) - 2) + [limits, CAUTION]
+
+
 def _hazard_cells(emission: Emission, limits: str) -> list[str]:
     result = result_under(emission, limits)
     if result is None:
-        return ["not computed", "not computed", "not computed", "not computed", limits, CAUTION]
+        return _no_figures(limits)
     return [distance(result.nohd_m, result.nohd_unbounded), optical_density(result.od_required),
             en207_marking(result.en207_marking), duration(result.exposure_s), limits, CAUTION]
