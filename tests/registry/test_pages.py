@@ -482,3 +482,70 @@ class IncidentTests(TestCase):
             "description": "Seen through the door."})
         self.assertContains(response, "Select a valid choice", status_code=400)
         self.assertEqual(register_state(), before)
+
+
+class QueryCountTests(TestCase):
+    """The register and the home pages cost a fixed number of queries however many lasers the register holds."""
+
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+
+    def _more_lasers(self, count: int) -> None:
+        """``count`` more active lasers (each with an emission, results under both sets, eyewear in its own room,
+        a pending one too) owned by the owner, with the user authorized on each, and a group member per laser."""
+        w = self.world
+        for number in range(count):
+            room = factories.LocationFactory.create()
+            factories.EyewearMarkingFactory.create(eyewear=factories.EyewearFactory.create(location=room))
+            for status in ("active", "pending_review"):
+                laser = factories.LaserFactory.create(owner=w.owner, location=room, status=status)
+                emission = factories.EmissionFactory.create(laser=laser)
+                for limits in ("icnirp2013", "eu2006"):
+                    factories.HazardResultFactory.create(emission=emission, limits=limits, nohd_m=40.0 + number,
+                                                         od_required=3.0)
+            factories.AuthorizationFactory.create(person=w.user, laser=laser, status="approved", decided_by=w.lso,
+                                                  decided_at=timezone.now())
+            member = factories.PersonFactory.create(research_group=w.owner.research_group)
+            factories.TrainingRecordFactory.create(person=member)
+            factories.AuthorizationFactory.create(person=member, laser=laser)
+
+    def _assert_fixed(self, persona: str, path: str, queries: int) -> None:
+        client = _client(self.world, persona)
+        with self.assertNumQueries(queries):
+            self.assertEqual(client.get(path).status_code, 200)
+        self._more_lasers(8)
+        with self.assertNumQueries(queries):
+            self.assertEqual(client.get(path).status_code, 200)
+
+    def test_the_register_page(self) -> None:
+        # 1 session, 2 account, 3 person; 4 count for the pages; 5 buildings, 6 rooms and 7 owners for the
+        # filters; 8 lasers (owner, account, group, room joined, sorted by the NOHD annotation), 9 their
+        # emissions, 10 the emissions' results.
+        self._assert_fixed("lso", "/lasers/?ordering=-nohd", 10)
+
+    def test_the_lso_home(self) -> None:
+        # 1 session, 2 account, 3 person; training: 4 people with general training, 5 their records;
+        # 6 open findings; rooms: 7 rooms holding lasers, 8 lasers, 9 emissions, 10 results, 11 eyewear,
+        # 12 markings; lasers awaiting review: 13 lasers, 14 emissions, 15 results; 16 requested
+        # authorizations; audits due: 17 rooms with class 3B/4 lasers, 18 audits covering them;
+        # 19 emissions that could not be assessed.
+        self._assert_fixed("lso", "/", 19)
+
+    def test_the_researcher_home(self) -> None:
+        # 1 session, 2 account, 3 person; group: 4 people, 5 their training, 6 their authorizations;
+        # own lasers: 7 lasers, 8 emissions, 9 results.
+        self._assert_fixed("owner", "/", 9)
+
+    def test_the_laser_user_home(self) -> None:
+        # 1 session, 2 account, 3 person; 4 authorizations in force; their lasers: 5 lasers, 6 emissions,
+        # 7 results; their rooms: 8 rooms, 9 lasers, 10 emissions, 11 results, 12 eyewear, 13 markings;
+        # 14 training standing; 15 training records; 16 all the user's authorizations.
+        self._assert_fixed("user", "/", 16)
+
+    def test_the_inspector_home(self) -> None:
+        # 1 session, 2 account, 3 person; rooms: 4 rooms, 5 lasers, 6 emissions, 7 results, 8 eyewear,
+        # 9 markings; audits: 10 audits, 11 their lasers, 12 checklists, 13 findings.
+        self._assert_fixed("inspector", "/", 13)
