@@ -16,7 +16,7 @@ from registry.charts import eye_mpe_chart, hazard_distance_chart
 from registry.exports import register_dataset
 from registry.filters import LaserFilter
 from registry.forms import EmissionFormSet, LaserRegistrationForm, add_service_errors
-from registry.models import Emission, Laser, LaserClass, LaserStatus, Location, Person, Role
+from registry.models import Emission, Laser, LaserClass, LaserStatus, Location, Person
 from registry.services import laser_register, laser_submit
 from registry.services.previews import laser_registration_preview
 from registry.templatetags.hazard_figures import figure_rows, readable_working, unchecked_rows
@@ -52,7 +52,7 @@ def register(request: PageRequest) -> HttpResponse:
         "classes": LaserClass.choices, "statuses": LaserStatus.choices,
         "rooms": Location.objects.order_by("building", "room"),
         "buildings": Location.objects.order_by("building").values_list("building", flat=True).distinct(),
-        "owners": Person.objects.select_related("user").filter(role__in=[Role.RESEARCHER, Role.LSO]),
+        "owners": Person.objects.select_related("user").filter(lasers__isnull=False).distinct(),
         "selected": {name: request.GET.getlist(name) for name in ("labelled_class", "status")},
     })
 
@@ -93,7 +93,8 @@ def laser_detail(request: PageRequest, pk: int) -> HttpResponse:
         "can_resubmit": laser.status == LaserStatus.RETURNED and permissions.LASERS.allows(person, "submit", laser),
         "can_review": laser.status == LaserStatus.PENDING_REVIEW and permissions.LASERS.allows(person, "approve"),
         "can_report": permissions.INCIDENTS.allows(person, "create"),
-        "back_office": person.role == Role.LSO,
+        # The back office edits what the API's policy lets this person edit, for staff accounts.
+        "back_office": request.user.is_staff and permissions.LASERS.allows(person, "update", laser),
     })
 
 

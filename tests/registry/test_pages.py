@@ -347,6 +347,20 @@ class ReviewTests(TestCase):
         self.world.pending_laser.refresh_from_db()
         self.assertEqual(self.world.pending_laser.status, LaserStatus.ACTIVE)
 
+    def test_two_lsos_deciding_the_same_registration_the_second_is_told_and_nothing_more_changes(self) -> None:
+        second_lso = services.person_create(username="bo", role="lso")
+        pk = self.world.pending_laser.pk
+        first, second = _client(self.world, "lso"), Client()
+        second.force_login(second_lso.user)
+        # Both have the queue open; the first approves, then the second returns it with comments.
+        self.assertContains(second.get("/review/"), "Approve TST-0002")
+        first.post(f"/review/{pk}/", {"approve": "1"})
+        response = second.post(f"/review/{pk}/", {"return": "1", f"laser-{pk}-comments": "Too late?"}, follow=True)
+        self.assertContains(response, "TST-0002 was not changed")
+        laser = Laser.objects.get(pk=pk)
+        self.assertEqual((laser.status, laser.review_comments), (LaserStatus.ACTIVE, ""))
+        self.assertEqual([entry.status for entry in laser.history.all()[:2]], ["active", "pending_review"])
+
     def test_returning_needs_comments_and_keeps_them_for_the_owner(self) -> None:
         pk = self.world.pending_laser.pk
         client = _client(self.world, "lso")

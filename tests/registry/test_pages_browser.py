@@ -94,7 +94,7 @@ def test_a_researcher_registers_a_laser_with_units_sees_the_preview_and_the_lso_
     researcher = open_page("researcher")
     researcher.goto(f"{campus}/lasers/new/")
     proposed = researcher.get_by_label("Asset tag").input_value()
-    assert proposed == "FV-0029"
+    assert proposed == "FV-0030"
     expect(researcher.get_by_label("Asset tag")).to_be_disabled()
     researcher.get_by_label("Manufacturer").fill("Tarrow Diodes")
     researcher.get_by_label("Model").fill("TD-2000")
@@ -198,3 +198,7 @@ def test_the_room_page_flags_the_room_whose_goggles_are_inadequate(open_page: An
     _shot(lso, "room-kes-0-12")
     lso.goto(f"{campus}/people/")
     _shot(lso, "people")
+    # Jonah's request on FV-0001 waits while his general training has expired.
+    lso.get_by_role("link", name="Jonah Pereira").click()
+    expect(lso.get_by_role("region", name="Decide: FV-0001")).to_contain_text("has no valid general laser safety training")
+    _shot(lso, "person-with-a-pending-request")
