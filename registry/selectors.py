@@ -9,7 +9,7 @@ from __future__ import annotations
 import datetime
 import math
 import re
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import Any
 
@@ -586,31 +586,54 @@ _HISTORY_KINDS = {"+": "created", "~": "changed", "-": "deleted"}
 
 
 def laser_history(*, laser: Laser) -> list[HistoryEntry]:
-    """The laser's and its emissions' history, newest first, each change with the fields it changed (two queries)."""
-    entries: list[HistoryEntry] = []
-    sources = (
-        (laser.history.select_related("history_user"), lambda entry: "laser"),
-        (Emission.history.filter(laser_id=laser.pk).select_related("history_user"),
-         lambda entry: f"emission {entry.label or entry.id}"),
-    )
-    names = {model: {field.name: str(field.verbose_name) for field in model._meta.fields}
-             for model in (Laser, Emission)}
-    for rows, describe in sources:
+    """The laser's and its emissions' history, newest first, each change with the fields it changed.
+
+    Values read as on the pages: choices by their label, the owner and the room by name (two
+    queries for the history, one more each when an owner or a room changed).
+    """
+    versions: list[tuple[str, list[Any]]] = []
+    for rows, kind in ((laser.history.select_related("history_user"), "laser"),
+                       (Emission.history.filter(laser_id=laser.pk).select_related("history_user"), "emission")):
         by_record: dict[int, list[Any]] = {}
         for row in rows.order_by("history_date", "history_id"):
             by_record.setdefault(row.id, []).append(row)
-        for versions in by_record.values():
-            for previous, entry in zip([None, *versions[:-1]], versions):
-                labels = names[entry.instance_type]
-                changes = [] if previous is None else [
-                    (labels.get(change.field, change.field), _shown(change.old), _shown(change.new))
-                    for change in entry.diff_against(previous).changes]
-                user = entry.history_user
-                entries.append(HistoryEntry(when=entry.history_date, who=user.get_username() if user else "",
-                                            record=describe(entry), kind=_HISTORY_KINDS.get(entry.history_type, ""),
-                                            changes=changes))
+        versions += [(kind, rows_of_one) for rows_of_one in by_record.values()]
+    changes: list[tuple[Any, Any, list[Any]]] = []
+    for _, rows_of_one in versions:
+        for previous, entry in zip([None, *rows_of_one[:-1]], rows_of_one):
+            changes.append((entry, previous, [] if previous is None else entry.diff_against(previous).changes))
+    named = _named_references([change for _, _, delta in changes for change in delta])
+    entries: list[HistoryEntry] = []
+    for entry, previous, delta in changes:
+        model = entry.instance_type
+        record = "laser" if model is Laser else f"emission {entry.label or entry.id}"
+        user = entry.history_user
+        entries.append(HistoryEntry(
+            when=entry.history_date, who=user.get_username() if user else "", record=record,
+            kind=_HISTORY_KINDS.get(entry.history_type, ""),
+            changes=[(str(model._meta.get_field(change.field).verbose_name),
+                      _shown(model, change.field, change.old, named), _shown(model, change.field, change.new, named))
+                     for change in delta]))
     return sorted(entries, key=lambda item: item.when, reverse=True)
 
 
-def _shown(value: Any) -> str:
-    return "" if value is None else str(value)
+# Foreign keys a laser's history names by their record rather than by id.
+_NAMED_REFERENCES: dict[str, Callable[[], QuerySet[Any]]] = {
+    "owner": lambda: Person.objects.select_related("user"), "location": lambda: Location.objects.all()}
+
+
+def _named_references(changes: list[Any]) -> dict[str, dict[Any, Any]]:
+    wanted: dict[str, set[Any]] = {}
+    for change in changes:
+        if change.field in _NAMED_REFERENCES:
+            wanted.setdefault(change.field, set()).update(value for value in (change.old, change.new) if value)
+    return {field: _NAMED_REFERENCES[field]().in_bulk(ids) for field, ids in wanted.items()}
+
+
+def _shown(model: Any, field: str, value: Any, named: dict[str, dict[Any, Any]]) -> str:
+    if value is None or value == "":
+        return ""
+    if field in named:
+        return str(named[field].get(value, value))
+    choices = dict(model._meta.get_field(field).flatchoices)
+    return str(choices.get(value, value))

@@ -81,6 +81,15 @@ class PageAccessTests(TestCase):
                     if persona == "anonymous":
                         self.assertEqual(response["Location"], f"/login/?next={path}")
 
+    def test_pages_carry_no_inline_script_or_style_so_a_strict_csp_needs_no_exception(self) -> None:
+        w = self.world
+        for path in ("/login/", "/", "/lasers/", f"/lasers/{w.laser.pk}/", "/lasers/new/", "/review/",
+                     f"/locations/{w.room.pk}/", "/people/", f"/people/{w.user.pk}/", "/people/new/", "/incidents/new/"):
+            with self.subTest(path=path):
+                html = _client(w, "anonymous" if path == "/login/" else "lso").get(path).content.decode()
+                for forbidden in ("<script", "<style", " style=", " onclick=", " onsubmit=", " onload="):
+                    self.assertNotIn(forbidden, html)
+
     def test_a_refused_post_changes_nothing(self) -> None:
         w = self.world
         posts = {
@@ -153,6 +162,16 @@ class FiguresTests(TestCase):
         self.assertNotIn("e-0", html)
         # The figures of the other set appear beside, so the two can be compared.
         self.assertEqual(response.context["other"], "eu2006")
+
+    def test_the_history_says_who_changed_what_and_when_in_words(self) -> None:
+        w = self.world
+        services.laser_update(laser=w.laser, by=w.lso, owner=w.outsider, description="Moved to the other group.")
+        history = _client(w, "inspector").get(f"/lasers/{w.laser.pk}/").context["history"]
+        latest = history[0]
+        self.assertEqual((latest.who, latest.record, latest.kind), ("ada", "laser", "changed"))
+        self.assertIn(("owner", "Rhea Tallis", "Otto Venn"), latest.changes)
+        self.assertEqual(sum(("status", "pending review", "active") in entry.changes for entry in history), 1)
+        self.assertEqual(history[-1].kind, "created")
 
     def test_a_missing_figure_reads_not_computed_never_blank_or_zero(self) -> None:
         laser = services.laser_register(by=self.world.owner, asset_tag="TST-0099", laser_type="diode",
