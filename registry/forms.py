@@ -194,8 +194,9 @@ class EmissionEntryForm(EmissionForm):
         return 0.0 if value is None else value
 
 
+# Twelve lines is more than any data sheet lists; a posted form count beyond it is refused, not rendered.
 EmissionFormSet = forms.formset_factory(EmissionEntryForm, extra=0, min_num=1, validate_min=True, max_num=12,
-                                        validate_max=True)
+                                        validate_max=True, absolute_max=13)
 
 
 class ReviewForm(forms.Form):
