@@ -65,6 +65,11 @@ class LaserFilter(django_filters.FilterSet):
         field_name="labelled_class", choices=LaserClass.choices,
         help_text="Labelled class; repeat the parameter for several.",
     )
+    # The register page's name for the same filter (issue 10); both are accepted everywhere.
+    labelled_class = django_filters.MultipleChoiceFilter(
+        field_name="labelled_class", choices=LaserClass.choices,
+        help_text="Labelled class, as laser_class; repeat the parameter for several.",
+    )
     effective_class = django_filters.MultipleChoiceFilter(
         method="filter_effective_class", choices=LaserClass.choices,
         help_text="The class of the beam itself: the embedded class where an enclosure changes it.",
@@ -89,7 +94,7 @@ class LaserFilter(django_filters.FilterSet):
 
     class Meta:
         model = Laser
-        fields = ["laser_class", "effective_class", "status", "location", "building", "owner"]
+        fields = ["laser_class", "labelled_class", "effective_class", "status", "location", "building", "owner"]
 
     def filter_effective_class(self, queryset: QuerySet[Laser], name: str, value: list[str]) -> QuerySet[Laser]:
         if not value:

@@ -10,6 +10,7 @@ import math
 from typing import Any
 
 from django import forms
+from django.core.exceptions import ValidationError
 from django.utils.functional import Promise
 from django.utils.text import capfirst
 from django.utils.translation import gettext_lazy as _
@@ -17,7 +18,22 @@ from django.utils.translation import gettext_lazy as _
 from hazards.assessment import beam_fields
 from hazards.errors import InputError
 from hazards.units import format_for_input, parse_quantity
-from registry.models import Emission, EyewearMarking, Location
+from registry.models import (
+    MAX_WAVELENGTH_M,
+    MIN_WAVELENGTH_M,
+    CourseKind,
+    Emission,
+    EyewearMarking,
+    IncidentKind,
+    Laser,
+    LaserClass,
+    LaserStatus,
+    LaserType,
+    Location,
+    Person,
+    ResearchGroup,
+    Role,
+)
 
 # Two readings of one value closer than this are the same value: formatting for display
 # and parsing back may move the last bit or two of a float, never more.
@@ -129,3 +145,131 @@ class EyewearMarkingForm(forms.ModelForm):
     class Meta:
         model = EyewearMarking
         fields = "__all__"
+
+
+# --- the register's own pages ---------------------------------------------------------------
+
+_DATE = forms.DateInput(attrs={"type": "date"})
+
+
+class LaserRegistrationForm(forms.Form):
+    """A new laser's identity and room. The asset tag is the register's proposal; only the LSO
+    may change it, and only the LSO names an owner (a researcher registers in their own name)."""
+
+    asset_tag = forms.CharField(label=_("Asset tag"), max_length=40)
+    manufacturer = forms.CharField(label=_("Manufacturer"), max_length=200, required=False)
+    model_name = forms.CharField(label=_("Model"), max_length=200, required=False)
+    serial_number = forms.CharField(label=_("Serial number"), max_length=100, required=False)
+    laser_type = forms.ChoiceField(label=_("Type"), choices=LaserType.choices)
+    gain_medium = forms.CharField(label=_("Gain medium"), max_length=100, required=False,
+                                  help_text=_("e.g. Nd:YAG, Ti:sapphire, He-Ne, InGaN."))
+    labelled_class = forms.ChoiceField(label=_("Labelled class"), choices=LaserClass.choices)
+    embedded_class = forms.ChoiceField(
+        label=_("Embedded laser class"), choices=[("", _("none: the label is the beam's class")), *LaserClass.choices],
+        required=False, help_text=_("Only when an enclosure changes the class, e.g. a class 1 cutter holding a class 4 laser."))
+    location = forms.ModelChoiceField(label=_("Room"), queryset=Location.objects.all())
+    owner = forms.ModelChoiceField(label=_("Owner"), queryset=Person.objects.none(), required=False)
+    description = forms.CharField(label=_("Description"), widget=forms.Textarea(attrs={"rows": 2}), required=False)
+
+    def __init__(self, *args: Any, person: Person, proposed_tag: str, **kwargs: Any) -> None:
+        super().__init__(*args, **kwargs)
+        self.fields["asset_tag"].initial = proposed_tag
+        if person.is_lso:
+            self.fields["owner"].queryset = Person.objects.select_related("user").filter(role=Role.RESEARCHER)
+            self.fields["owner"].help_text = _("The researcher answerable for the laser.")
+        else:
+            self.fields["asset_tag"].disabled = True
+            self.fields["asset_tag"].help_text = _("Proposed by the register; the LSO may change it.")
+            del self.fields["owner"]
+
+
+class EmissionEntryForm(EmissionForm):
+    """One emission of a laser being registered, typed as on the data sheet."""
+
+    source_size_rad = QuantityField(name=_("apparent source size"), unit="rad", display_unit="mrad", minimum=0.0,
+                                    required=False, help_text=_("Only for an extended source, e.g. '5 mrad'; "
+                                                                "empty for a point source."))
+
+    class Meta(EmissionForm.Meta):
+        fields = ["label", "wavelength_m", "wavelength_max_m", "temporal_mode", "average_power_W", "pulse_energy_J",
+                  "pulse_duration_s", "prf_Hz", "beam_diameter_m", "diameter_definition", "divergence_rad",
+                  "source_size_rad", "fibre_na"]
+
+    def clean_source_size_rad(self) -> float:
+        # Empty on a data sheet means a point source, which the register stores as 0 rad.
+        value = self.cleaned_data["source_size_rad"]
+        return 0.0 if value is None else value
+
+
+# Twelve lines is more than any data sheet lists; a posted form count beyond it is refused, not rendered.
+EmissionFormSet = forms.formset_factory(EmissionEntryForm, extra=0, min_num=1, validate_min=True, max_num=12,
+                                        validate_max=True, absolute_max=13)
+
+
+class ReviewForm(forms.Form):
+    comments = forms.CharField(label=_("Comments for the owner"), required=False,
+                               widget=forms.Textarea(attrs={"rows": 2}),
+                               help_text=_("Required when returning the registration; kept with an approval as its note."))
+
+
+class TrainingRecordForm(forms.Form):
+    course = forms.ChoiceField(label=_("Course"), choices=CourseKind.choices)
+    title = forms.CharField(label=_("Title"), max_length=200, required=False)
+    laser = forms.ModelChoiceField(label=_("Laser (equipment-specific training)"), queryset=Laser.objects.all(),
+                                   required=False)
+    completed_on = forms.DateField(label=_("Completed on"), widget=_DATE)
+    valid_until = forms.DateField(label=_("Valid until"), widget=_DATE, required=False,
+                                  help_text=_("Empty when the training does not expire."))
+    evidence = forms.CharField(label=_("Evidence"), max_length=300, required=False,
+                               help_text=_("Certificate number, attendance list or document reference."))
+
+
+class AuthorizationRequestForm(forms.Form):
+    laser = forms.ModelChoiceField(label=_("Laser"), queryset=Laser.objects.filter(status=LaserStatus.ACTIVE))
+    conditions = forms.CharField(label=_("Conditions of use"), required=False, widget=forms.Textarea(attrs={"rows": 2}))
+
+
+class AuthorizationDecisionForm(forms.Form):
+    valid_until = forms.DateField(label=_("Valid until"), widget=_DATE, required=False,
+                                  help_text=_("For an approval; empty: until revoked."))
+    reason = forms.CharField(label=_("Reason"), required=False, widget=forms.Textarea(attrs={"rows": 2}),
+                             help_text=_("Required for a refusal; shown to the requester."))
+
+
+class PersonCreateForm(forms.Form):
+    username = forms.CharField(label=_("Username"), max_length=150)
+    first_name = forms.CharField(label=_("First name"), max_length=150, required=False)
+    last_name = forms.CharField(label=_("Last name"), max_length=150, required=False)
+    email = forms.EmailField(label=_("Email"), required=False)
+    role = forms.ChoiceField(label=_("Role"), choices=Role.choices)
+    research_group = forms.ModelChoiceField(label=_("Research group"), queryset=ResearchGroup.objects.all(),
+                                            required=False)
+    supervisor = forms.ModelChoiceField(label=_("Supervisor"), queryset=Person.objects.select_related("user"),
+                                        required=False)
+    password = forms.CharField(label=_("Initial password"), required=False, strip=False,
+                               widget=forms.PasswordInput(render_value=False),
+                               help_text=_("Optional; without one the account cannot sign in until a password is set."))
+
+    def clean_password(self) -> str | None:
+        return self.cleaned_data["password"] or None
+
+
+class IncidentReportForm(forms.Form):
+    kind = forms.ChoiceField(label=_("Kind"), choices=IncidentKind.choices)
+    occurred_at = forms.DateTimeField(label=_("When it happened"),
+                                      widget=forms.DateTimeInput(attrs={"type": "datetime-local"}))
+    laser = forms.ModelChoiceField(label=_("Laser"), queryset=Laser.objects.none())
+    description = forms.CharField(label=_("What happened"), widget=forms.Textarea(attrs={"rows": 4}))
+
+    def __init__(self, *args: Any, lasers: Any, **kwargs: Any) -> None:
+        super().__init__(*args, **kwargs)
+        self.fields["laser"].queryset = lasers
+
+
+def add_service_errors(form: forms.BaseForm, error: ValidationError) -> None:
+    """Show a service's refusal on ``form``: beside the field it names, or above the form."""
+    if not hasattr(error, "error_dict"):
+        form.add_error(None, error)
+        return
+    for name, messages in error.message_dict.items():
+        form.add_error(name if name in form.fields else None, messages)

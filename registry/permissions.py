@@ -22,6 +22,7 @@ from django.core.exceptions import ObjectDoesNotExist
 from django.db.models import Model, Q, QuerySet
 from rest_framework.permissions import BasePermission
 
+from registry import selectors
 from registry.models import Laser, Person, Role
 
 if TYPE_CHECKING:
@@ -63,6 +64,15 @@ def allow(*roles: str, on_object: ObjectCheck | None = None, checked: tuple[str,
 class Policy:
     rules: Mapping[str, Rule]
     scope: Mapping[str, Scope] = field(default_factory=dict)
+
+    def allows(self, person: Person | None, action: str, record: Any = None) -> bool:
+        """Whether ``person`` may take ``action`` (on ``record``, when the rule checks records)."""
+        rule = self.rules.get(action)
+        if person is None or rule is None or person.role not in rule.roles:
+            return False
+        if record is None or rule.on_object is None or person.role not in rule.checked_roles:
+            return True
+        return rule.on_object(person, record)
 
     def visible(self, person: Person | None, queryset: QuerySet[Any]) -> QuerySet[Any]:
         """``queryset`` narrowed to what ``person`` may see; roles without a scope see all of it."""
@@ -190,6 +200,16 @@ def _sops_of_own_lasers(person: Person, queryset: QuerySet[Any]) -> QuerySet[Any
     return queryset.filter(laser__in=Laser.objects.filter(authorizations__person_id=person.pk))
 
 
+def _authorized_lasers(person: Person, queryset: QuerySet[Any]) -> QuerySet[Any]:
+    """The lasers a laser user holds an authorization in force on (approved, unretired, not expired)."""
+    return queryset.filter(pk__in=selectors.authorizations_in_force(person=person).values("laser_id"))
+
+
+def visible_lasers(person: Person, queryset: QuerySet[Any]) -> QuerySet[Any]:
+    """The lasers ``person`` may see (and so name in an incident report)."""
+    return LASERS.visible(person, queryset)
+
+
 def editable_lasers(person: Person, queryset: QuerySet[Any]) -> QuerySet[Any]:
     """Lasers ``person`` may attach emissions, SOPs and authorization requests to."""
     return queryset if person.role == LSO else queryset.filter(owner_id=person.pk)
@@ -219,7 +239,8 @@ def _edit(*roles: str, on_object: ObjectCheck | None = None) -> dict[str, Rule]:
 LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO), **_edit(LSO)})
 
 LASERS = Policy({
-    **_read(*_READERS),
+    # A laser user reads the lasers they are authorized on, with their figures (scope below).
+    **_read(*_EVERYONE),
     "history": allow(LSO, INSPECTOR, RESEARCHER, on_object=owns_laser, checked=(RESEARCHER,)),
     # Researchers register lasers; the service starts them as pending review, owned by them.
     "create": allow(LSO, RESEARCHER),
@@ -229,7 +250,7 @@ LASERS = Policy({
     "approve": allow(LSO),
     "send_back": allow(LSO),
     "change_status": allow(LSO),
-})
+}, scope={USER: _authorized_lasers})
 
 EMISSIONS = Policy({
     **_read(*_READERS),
@@ -243,7 +264,8 @@ EMISSIONS = Policy({
 HAZARD_RESULTS = Policy({**_read(*_READERS), "working": allow(*_READERS)})
 
 PEOPLE = Policy(
-    {**_read(*_EVERYONE), **_edit(LSO)},
+    # Adding a person creates their account (person_create).
+    {**_read(*_EVERYONE), "create": allow(LSO), **_edit(LSO)},
     scope={RESEARCHER: _people_in_group, USER: _only_self},
 )
 
@@ -307,7 +329,8 @@ FINDINGS = Policy(
 )
 
 INCIDENTS = Policy(
-    {**_read(*_READERS), "create": allow(LSO, RESEARCHER), "investigate": allow(LSO), "close": allow(LSO),
+    # Anyone signed in reports an incident, on a laser they can see (visible_lasers).
+    {**_read(*_READERS), "create": allow(*_EVERYONE), "investigate": allow(LSO), "close": allow(LSO),
      "retire": allow(LSO),
      # The reporter may correct their account while the incident is open (incident_update).
      **_edit(LSO, RESEARCHER, on_object=reported_it)},

@@ -7,11 +7,14 @@ of queries however many rows it shows.
 from __future__ import annotations
 
 import datetime
-from collections.abc import Iterable
+import math
+import re
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
+from typing import Any
 
 from django.conf import settings
-from django.db.models import Exists, OuterRef, Prefetch, Q, QuerySet
+from django.db.models import Case, Exists, F, FloatField, Max, OuterRef, Prefetch, Q, QuerySet, Value, When
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -36,6 +39,7 @@ from registry.models import (
     HazardResult,
     Incident,
     Laser,
+    LaserStatus,
     Location,
     Person,
     Role,
@@ -45,7 +49,7 @@ from registry.models import (
 )
 
 
-def laser_list() -> QuerySet[Laser]:
+def laser_list(*, with_working: bool = False) -> QuerySet[Laser]:
     """Every laser with owner, account, group, location, emissions and their hazard results.
 
     The emissions are the list ``laser.current_emissions`` (by wavelength), each with its
@@ -53,12 +57,12 @@ def laser_list() -> QuerySet[Laser]:
     prefetch into ``.emissions.all()`` and ``.hazard_results.all()`` builds a queryset per
     row, a tenth of an API page's time. The emissions' lasers are not joined again (the
     prefetch links each to its laser). Results are loaded without ``working`` (kB of JSON
-    each, shown only by the working endpoint); reading it from these rows costs a query each.
+    each, shown only by the working endpoint and the laser page, which ask ``with_working``).
     """
+    results = HazardResult.objects.all() if with_working else HazardResult.objects.defer("working")
     return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
         Prefetch("emissions", to_attr="current_emissions"),
-        Prefetch("current_emissions__hazard_results", queryset=HazardResult.objects.defer("working"),
-                 to_attr="current_results"),
+        Prefetch("current_emissions__hazard_results", queryset=results, to_attr="current_results"),
     )
 
 
@@ -244,13 +248,14 @@ _VERDICT_SEVERITY = {"adequate": 0, "inadequate": 1, "not_covered": 2}
 
 
 def location_eyewear_matrix(*, location: Location, limits: str | None = None) -> EyewearMatrix:
-    """The eyewear adequacy of ``location`` (four queries: lasers with emissions and results, eyewear with markings).
+    """The eyewear adequacy of ``location`` (five queries: lasers, emissions, results, eyewear, markings).
 
     The lasers are those in the register's care in the room (every status but disposed and transferred).
     """
-    chosen = limits or register_limits()
-    lasers = laser_list().filter(location=location).exclude(status__in=RETIRED_STATUSES)
-    items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
+    return room_hazards(locations=[location], limits=limits)[0].matrix
+
+
+def _eyewear_matrix(location: Location, lasers: Iterable[Laser], items: list[Eyewear], chosen: str) -> EyewearMatrix:
     bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
     emissions: list[Emission] = []
     not_assessed: list[Emission] = []
@@ -258,24 +263,98 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None) ->
     cells: dict[tuple[int, int], Adequacy] = {}
     for laser in lasers:
         for emission in laser.current_emissions:
-            result = next((r for r in emission.current_results if r.limits == chosen), None)
+            result = result_under(emission, chosen)
             if result is None or result.od_required is None:
                 not_assessed.append(emission)
                 continue
             emissions.append(emission)
-            requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
-            # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
-            ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
+            verdicts = eyewear_verdicts(emission, result, items, bands)
             for item in items:
-                cells[(emission.pk, item.pk)] = max(
-                    (eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
-                     for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
-            protected = any(cells[(emission.pk, item.pk)].status == "adequate"
-                            for item in items if item.condition != EyewearCondition.DAMAGED)
-            if result.od_required > 0 and not protected:
+                cells[(emission.pk, item.pk)] = verdicts[item.pk]
+            if result.od_required > 0 and not protects(verdicts, items):
                 unprotected.append(emission)
     return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
                          not_assessed=not_assessed, unprotected=unprotected)
+
+
+def eyewear_verdicts(emission: Emission, result: HazardResult, items: list[Eyewear],
+                     bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
+    """The engine's verdict on each eyewear item against one emission's (stored or previewed) result, by item id."""
+    if bands is None:
+        bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
+    assert result.od_required is not None
+    requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
+    # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
+    ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
+    return {item.pk: max((eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
+                          for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
+            for item in items}
+
+
+def protects(verdicts: dict[int, Adequacy], items: list[Eyewear]) -> bool:
+    """Whether an adequate item in usable condition is among ``items`` (damaged eyewear protects nobody)."""
+    return any(verdicts[item.pk].status == "adequate" for item in items if item.condition != EyewearCondition.DAMAGED)
+
+
+def result_under(emission: Emission, limits: str) -> HazardResult | None:
+    """The emission's stored result under ``limits``, from the prefetched ``current_results``."""
+    return next((result for result in emission.current_results if result.limits == limits), None)
+
+
+def nohd_exceeds(result: HazardResult, location: Location) -> bool:
+    """Whether the result's NOHD reaches beyond the room's longest dimension (unbounded always does)."""
+    if location.longest_dimension_m is None:
+        return False
+    return result.nohd_unbounded or (result.nohd_m is not None and result.nohd_m > location.longest_dimension_m)
+
+
+def _nohd_key(result: HazardResult) -> float:
+    return math.inf if result.nohd_unbounded else (result.nohd_m or 0.0)
+
+
+@dataclass(frozen=True)
+class RoomHazards:
+    """What a room's lasers mean for the room, under one limit set.
+
+    ``lasers`` are those in the register's care in the room; ``matrix`` is its eyewear
+    adequacy; ``largest`` is the emission with the longest NOHD and its result (None when no
+    emission has one); ``beyond_room`` lists the emissions whose NOHD exceeds the room's
+    longest dimension, with their results.
+    """
+
+    location: Location
+    lasers: list[Laser]
+    matrix: EyewearMatrix
+    largest: tuple[Emission, HazardResult] | None
+    beyond_room: list[tuple[Emission, HazardResult]]
+
+
+def room_hazards(*, locations: Iterable[Location] | None = None, limits: str | None = None) -> list[RoomHazards]:
+    """RoomHazards for ``locations`` (every room holding a laser in the register's care when None).
+
+    Five queries however many rooms and lasers: the rooms (when not given), the lasers with
+    emissions and results, and the eyewear with markings.
+    """
+    chosen = limits or register_limits()
+    lasers = laser_list().filter(location__isnull=False).exclude(status__in=RETIRED_STATUSES)
+    if locations is None:
+        rooms = list(Location.objects.filter(pk__in=lasers.values("location_id")))
+    else:
+        rooms = list(locations)
+    lasers = list(lasers.filter(location__in=rooms))
+    items = list(eyewear_list().filter(location__in=rooms, retired_at__isnull=True))
+    summaries: list[RoomHazards] = []
+    for room in rooms:
+        here = [laser for laser in lasers if laser.location_id == room.pk]
+        assessed = [(emission, result) for laser in here for emission in laser.current_emissions
+                    if (result := result_under(emission, chosen)) is not None]
+        largest = max(assessed, key=lambda pair: _nohd_key(pair[1]), default=None)
+        summaries.append(RoomHazards(
+            location=room, lasers=here,
+            matrix=_eyewear_matrix(room, here, [item for item in items if item.location_id == room.pk], chosen),
+            largest=largest, beyond_room=[(emission, result) for emission, result in assessed
+                                          if nohd_exceeds(result, room)]))
+    return summaries
 
 
 def signal_word(classes: Iterable[str]) -> str | None:
@@ -371,3 +450,266 @@ def _add_months(day: datetime.date | None, months: int) -> datetime.date | None:
     year, month = day.year + month // 12, month % 12 + 1
     last_day = (datetime.date(year + month // 12, month % 12 + 1, 1) - datetime.timedelta(days=1)).day
     return datetime.date(year, month, min(day.day, last_day))
+
+
+# --- the pages' questions -----------------------------------------------------------------
+
+# How far ahead the register warns of expiring training and authorizations (issue 10).
+EXPIRY_WARNING_DAYS = 30
+
+
+@dataclass(frozen=True)
+class TrainingStanding:
+    """A person's general laser safety training as of a day.
+
+    ``valid_until`` is the latest expiry among their unretired general and refresher records
+    (None with ``trained`` set: one of them never expires; None without: no such training).
+    """
+
+    person: Person
+    trained: bool
+    valid_until: datetime.date | None
+    current: bool
+    expiring: bool
+
+
+def training_standings(*, people: Iterable[Person], on: datetime.date | None = None) -> dict[int, TrainingStanding]:
+    """TrainingStanding of each of ``people`` by person id (one query)."""
+    day = on or timezone.localdate()
+    chosen = list(people)
+    records = TrainingRecord.objects.filter(person__in=chosen, course__in=GENERAL_COURSES, retired_at__isnull=True,
+                                            completed_on__lte=day).values_list("person_id", "valid_until")
+    latest: dict[int, list[datetime.date | None]] = {}
+    for person_id, valid_until in records:
+        latest.setdefault(person_id, []).append(valid_until)
+    standings: dict[int, TrainingStanding] = {}
+    for person in chosen:
+        dates = latest.get(person.pk)
+        if not dates:
+            standings[person.pk] = TrainingStanding(person, False, None, False, False)
+            continue
+        until = None if None in dates else max(date for date in dates if date is not None)
+        current = until is None or until >= day
+        expiring = until is not None and current and until <= day + datetime.timedelta(days=EXPIRY_WARNING_DAYS)
+        standings[person.pk] = TrainingStanding(person, True, until, current, expiring)
+    return standings
+
+
+_SEVERITY_ORDER = {"critical": 0, "major": 1, "minor": 2, "observation": 3}
+
+
+@dataclass(frozen=True)
+class Attention:
+    """What needs the LSO's attention today (the LSO's home page)."""
+
+    awaiting_review: list[Laser]
+    training_due: list[TrainingStanding]
+    authorizations_pending: list[Authorization]
+    audits_due: list[AuditDue]
+    findings: list[Finding]
+    overdue_findings: set[int]
+    eyewear_inadequate: list[RoomHazards]
+    nohd_beyond_room: list[RoomHazards]
+    not_assessed: list[Emission]
+
+
+def lso_attention(*, today: datetime.date | None = None) -> Attention:
+    """Everything the LSO's home lists, in a fixed number of queries however big the register."""
+    day = today or timezone.localdate()
+    trained = person_list().filter(training_records__course__in=GENERAL_COURSES).distinct()
+    standings = training_standings(people=trained, on=day)
+    due = sorted((standing for standing in standings.values() if not standing.current or standing.expiring),
+                 key=lambda standing: standing.valid_until or datetime.date.min)
+    findings = list(finding_open_list())
+    overdue = {finding.pk for finding in findings if finding.due_on is not None and finding.due_on < day}
+    findings.sort(key=lambda finding: (finding.pk not in overdue, _SEVERITY_ORDER.get(finding.severity, 9),
+                                       finding.due_on or datetime.date.max))
+    rooms = room_hazards()
+    return Attention(
+        awaiting_review=list(laser_list().filter(status=LaserStatus.PENDING_REVIEW).order_by("created_at")),
+        training_due=due,
+        authorizations_pending=list(authorization_list().filter(status=AuthorizationStatus.REQUESTED,
+                                                                retired_at__isnull=True).order_by("requested_at")),
+        audits_due=audits_due(today=day),
+        findings=findings,
+        overdue_findings=overdue,
+        eyewear_inadequate=[room for room in rooms if room.matrix.unprotected],
+        nohd_beyond_room=[room for room in rooms if room.beyond_room],
+        not_assessed=list(Emission.objects.select_related("laser").exclude(assessment_problem="")
+                          .exclude(laser__status__in=RETIRED_STATUSES).order_by("laser__asset_tag", "wavelength_m")),
+    )
+
+
+@dataclass(frozen=True)
+class GroupMember:
+    person: Person
+    training: TrainingStanding
+    authorizations: list[Authorization]
+
+
+def group_members(*, researcher: Person, on: datetime.date | None = None) -> list[GroupMember]:
+    """The other people of ``researcher``'s group with their training and open or decided authorizations (3 queries)."""
+    people = list(people_visible_to(viewer=researcher).exclude(pk=researcher.pk))
+    standings = training_standings(people=people, on=on)
+    authorizations = list(authorization_list().filter(person__in=people, retired_at__isnull=True)
+                          .order_by("laser__asset_tag"))
+    return [GroupMember(person, standings[person.pk],
+                        [item for item in authorizations if item.person_id == person.pk]) for person in people]
+
+
+@dataclass(frozen=True)
+class AuthorizedLaser:
+    """A laser a user is authorized on, with the room's eyewear that protects against each emission."""
+
+    authorization: Authorization
+    laser: Laser
+    room: RoomHazards | None
+    protecting: dict[int, list[Eyewear]]
+
+
+def authorized_lasers(*, person: Person, on: datetime.date | None = None) -> list[AuthorizedLaser]:
+    """The lasers ``person`` holds an authorization in force on, with figures and eyewear (fixed query count)."""
+    authorizations = list(authorizations_in_force(person=person, on=on))
+    lasers = {laser.pk: laser for laser in laser_list().filter(pk__in=[item.laser_id for item in authorizations])}
+    rooms = {room.location.pk: room for room in room_hazards(
+        locations=Location.objects.filter(lasers__in=list(lasers)).distinct())} if lasers else {}
+    found: list[AuthorizedLaser] = []
+    for authorization in authorizations:
+        laser = lasers[authorization.laser_id]
+        room = rooms.get(laser.location_id) if laser.location_id is not None else None
+        protecting: dict[int, list[Eyewear]] = {}
+        for emission in laser.current_emissions:
+            protecting[emission.pk] = [] if room is None else [
+                item for item in room.matrix.eyewear if item.condition != EyewearCondition.DAMAGED
+                and (cell := room.matrix.cells.get((emission.pk, item.pk))) is not None and cell.status == "adequate"]
+        found.append(AuthorizedLaser(authorization, laser, room, protecting))
+    return found
+
+
+# Register sort keys (the page's ?ordering=): a column or a hazard figure under the lead set.
+REGISTER_ORDERINGS = {
+    "asset_tag": "asset_tag",
+    "labelled_class": "labelled_class",
+    "status": "status",
+    "location": "location__room",
+    "owner": "owner__user__last_name",
+    "nohd": "nohd_key",
+    "od": "od_key",
+}
+# An unbounded NOHD sorts beyond every finite one.
+_UNBOUNDED_SORT_M = 1e30
+
+
+def laser_register(*, limits: str | None = None) -> QuerySet[Laser]:
+    """laser_list() with ``nohd_key`` and ``od_key``: the largest NOHD and required OD of each
+    laser's emissions under ``limits`` (null when none was computed), for sorting."""
+    chosen = limits or register_limits()
+    under = Q(emissions__hazard_results__limits=chosen)
+    return laser_list().annotate(
+        nohd_key=Max(Case(When(emissions__hazard_results__nohd_unbounded=True, then=Value(_UNBOUNDED_SORT_M)),
+                          default=F("emissions__hazard_results__nohd_m"), output_field=FloatField()), filter=under),
+        od_key=Max("emissions__hazard_results__od_required", filter=under),
+    )
+
+
+def register_ordering(key: str) -> list[Any]:
+    """The order_by() terms for a register sort key ("-nohd": longest first); unknown keys sort by asset tag.
+    Lasers without the figure come last either way."""
+    descending = key.startswith("-")
+    field = REGISTER_ORDERINGS.get(key.lstrip("-"), "asset_tag")
+    term = F(field).desc(nulls_last=True) if descending else F(field).asc(nulls_last=True)
+    return [term, "asset_tag"]
+
+
+def next_asset_tag() -> str:
+    """The asset tag the register proposes for a new laser: the newest tag's prefix, numbered
+    one past the highest number in use with that prefix ("FV-0028" -> "FV-0029")."""
+    return _next_code(Laser.objects.order_by("-created_at").values_list("asset_tag", flat=True)[:1],
+                      Laser.objects.values_list("asset_tag", flat=True), default="LSR-0001")
+
+
+def next_incident_reference() -> str:
+    return _next_code(Incident.objects.order_by("-created_at").values_list("reference", flat=True)[:1],
+                      Incident.objects.values_list("reference", flat=True), default="INC-0001")
+
+
+_CODE = re.compile(r"^(.*?)(\d+)$")
+
+
+def _next_code(newest: Iterable[str], existing: Iterable[str], *, default: str) -> str:
+    latest = next(iter(newest), None)
+    match = _CODE.match(latest or "")
+    if match is None:
+        return default
+    prefix, digits = match.groups()
+    numbers = [int(found.group(2)) for code in existing
+               if (found := _CODE.match(code)) is not None and found.group(1) == prefix]
+    return f"{prefix}{max(numbers) + 1:0{len(digits)}d}"
+
+
+@dataclass(frozen=True)
+class HistoryEntry:
+    """One change to a laser or one of its emissions: who, when, what."""
+
+    when: datetime.datetime
+    who: str
+    record: str
+    kind: str
+    changes: list[tuple[str, str, str]]
+
+
+_HISTORY_KINDS = {"+": "created", "~": "changed", "-": "deleted"}
+
+
+def laser_history(*, laser: Laser) -> list[HistoryEntry]:
+    """The laser's and its emissions' history, newest first, each change with the fields it changed.
+
+    Values read as on the pages: choices by their label, the owner and the room by name (two
+    queries for the history, one more each when an owner or a room changed).
+    """
+    versions: list[tuple[str, list[Any]]] = []
+    for rows, kind in ((laser.history.select_related("history_user"), "laser"),
+                       (Emission.history.filter(laser_id=laser.pk).select_related("history_user"), "emission")):
+        by_record: dict[int, list[Any]] = {}
+        for row in rows.order_by("history_date", "history_id"):
+            by_record.setdefault(row.id, []).append(row)
+        versions += [(kind, rows_of_one) for rows_of_one in by_record.values()]
+    changes: list[tuple[Any, Any, list[Any]]] = []
+    for _, rows_of_one in versions:
+        for previous, entry in zip([None, *rows_of_one[:-1]], rows_of_one):
+            changes.append((entry, previous, [] if previous is None else entry.diff_against(previous).changes))
+    named = _named_references([change for _, _, delta in changes for change in delta])
+    entries: list[HistoryEntry] = []
+    for entry, previous, delta in changes:
+        model = entry.instance_type
+        record = "laser" if model is Laser else f"emission {entry.label or entry.id}"
+        user = entry.history_user
+        entries.append(HistoryEntry(
+            when=entry.history_date, who=user.get_username() if user else "", record=record,
+            kind=_HISTORY_KINDS.get(entry.history_type, ""),
+            changes=[(str(model._meta.get_field(change.field).verbose_name),
+                      _shown(model, change.field, change.old, named), _shown(model, change.field, change.new, named))
+                     for change in delta]))
+    return sorted(entries, key=lambda item: item.when, reverse=True)
+
+
+# Foreign keys a laser's history names by their record rather than by id.
+_NAMED_REFERENCES: dict[str, Callable[[], QuerySet[Any]]] = {
+    "owner": lambda: Person.objects.select_related("user"), "location": lambda: Location.objects.all()}
+
+
+def _named_references(changes: list[Any]) -> dict[str, dict[Any, Any]]:
+    wanted: dict[str, set[Any]] = {}
+    for change in changes:
+        if change.field in _NAMED_REFERENCES:
+            wanted.setdefault(change.field, set()).update(value for value in (change.old, change.new) if value)
+    return {field: _NAMED_REFERENCES[field]().in_bulk(ids) for field, ids in wanted.items()}
+
+
+def _shown(model: Any, field: str, value: Any, named: dict[str, dict[Any, Any]]) -> str:
+    if value is None or value == "":
+        return ""
+    if field in named:
+        return str(named[field].get(value, value))
+    choices = dict(model._meta.get_field(field).flatchoices)
+    return str(choices.get(value, value))

@@ -85,6 +85,7 @@ TEMPLATES = [
                 "django.template.context_processors.request",
                 "django.contrib.auth.context_processors.auth",
                 "django.contrib.messages.context_processors.messages",
+                "registry.views.navigation.navigation",
             ],
         },
     },
@@ -131,7 +132,10 @@ STATIC_ROOT = Path(env_str("STATIC_ROOT", str(BASE_DIR / "staticfiles")))
 MEDIA_URL = "media/"
 MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
 
-LOGIN_URL = "admin:login"
+# The register's own sign-in page, for every role (the admin keeps refusing researchers and users).
+LOGIN_URL = "login"
+LOGIN_REDIRECT_URL = "home"
+LOGOUT_REDIRECT_URL = "login"
 
 # Mail: SMTP when EMAIL_HOST is set, otherwise printed to the console. A production
 # deployment without EMAIL_HOST gets a system-check warning (registry.checks).

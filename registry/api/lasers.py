@@ -57,12 +57,8 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
         return selectors.laser_list()
 
     def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Laser:
-        fields = dict(serializer.validated_data)
-        if not self.person.is_lso:
-            # A researcher registers in their own name.
-            fields["owner"] = self.person
         with service_errors(serializer):
-            return laser_services.laser_register(by=self.person, **fields)
+            return laser_services.laser_register(by=self.person, **serializer.validated_data)
 
     def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Laser:
         with service_errors(serializer):

@@ -20,6 +20,7 @@ from registry.serializers.people import (
     AuthorizationApprovalSerializer,
     AuthorizationRefusalSerializer,
     AuthorizationSerializer,
+    PersonCreateSerializer,
     PersonSerializer,
     PersonUpdateSerializer,
     PrerequisitesSerializer,
@@ -38,12 +39,13 @@ from registry.services import training as training_services
 _CONFLICT = OpenApiResponse(description="The record's status, or a missing prerequisite, does not allow this.")
 
 
-class PersonViewSet(UpdateWithETagMixin, RegisterViewSet):
+class PersonViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
     """People and their roles; researchers see their own group, users themselves."""
 
     policy = permissions.PEOPLE
     serializer_class = PersonSerializer
-    input_serializer_classes = {"update": PersonUpdateSerializer, "partial_update": PersonUpdateSerializer}
+    input_serializer_classes = {"create": PersonCreateSerializer, "update": PersonUpdateSerializer,
+                                "partial_update": PersonUpdateSerializer}
     filterset_class = PersonFilter
     ordering_fields = ["user__username", "user__last_name", "role"]
     ordering = ["user__last_name", "user__first_name", "user__username"]
@@ -51,6 +53,15 @@ class PersonViewSet(UpdateWithETagMixin, RegisterViewSet):
 
     def base_queryset(self) -> Any:
         return selectors.person_list()
+
+    @extend_schema(request=PersonCreateSerializer, responses={201: PersonSerializer},
+                   summary="Add a person with a role, creating their account (LSO)")
+    def create(self, request: Request, *args: Any, **kwargs: Any) -> Response:
+        return super().create(request, *args, **kwargs)
+
+    def perform_create(self, serializer: serializers.BaseSerializer[Any]) -> Person:
+        with service_errors(serializer):
+            return people_services.person_create(by=self.person, **serializer.validated_data)
 
     def perform_update(self, serializer: serializers.BaseSerializer[Any]) -> Person:
         with service_errors(serializer):

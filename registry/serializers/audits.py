@@ -14,6 +14,8 @@ from registry.models import (
     Location,
     Person,
 )
+from registry.permissions import visible_lasers
+from registry.serializers.base import ScopedRelatedField
 
 
 class ChecklistItemSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
@@ -108,6 +110,8 @@ class FindingCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]
 
 
 class IncidentSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
+    laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=visible_lasers, required=False, allow_null=True,
+                               help_text="The laser involved: one you can see in the register.")
     people_involved = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(), many=True, required=False)
 
     class Meta:

@@ -5,7 +5,7 @@ from typing import Any
 
 from rest_framework import serializers
 
-from registry.models import SOP, Authorization, CourseKind, Laser, Person, TrainingRecord
+from registry.models import SOP, Authorization, CourseKind, Laser, Person, ResearchGroup, Role, TrainingRecord
 from registry.permissions import editable_lasers, requestable_people
 from registry.serializers.base import ScopedRelatedField
 
@@ -27,6 +27,24 @@ class PersonSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
 
     def get_research_group_name(self, person: Person) -> str | None:
         return None if person.research_group is None else person.research_group.name
+
+
+class PersonCreateSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    """A new person and their account (person_create); the LSO gives the role."""
+
+    username = serializers.CharField(max_length=150, help_text="The sign-in name; unique.")
+    first_name = serializers.CharField(max_length=150, required=False, allow_blank=True, default="")
+    last_name = serializers.CharField(max_length=150, required=False, allow_blank=True, default="")
+    email = serializers.EmailField(required=False, allow_blank=True, default="")
+    password = serializers.CharField(write_only=True, required=False, default=None, style={"input_type": "password"},
+                                     help_text="An initial password; without one the account cannot sign in "
+                                               "until a password is set.")
+    role = serializers.ChoiceField(choices=Role.choices)
+    research_group = serializers.PrimaryKeyRelatedField(queryset=ResearchGroup.objects.all(), required=False,
+                                                        allow_null=True, default=None)
+    supervisor = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(), required=False, allow_null=True,
+                                                    default=None)
+    phone = serializers.CharField(max_length=40, required=False, allow_blank=True, default="")
 
 
 class PersonUpdateSerializer(PersonSerializer):

@@ -195,6 +195,13 @@ def _reason(error: ValidationError) -> str:
                      for message in messages)
 
 
+def emission_preview(emission: Emission, *, limits: str) -> HazardResult:
+    """The HazardResult ``emission`` would get under ``limits``, unsaved (for a preview before
+    anything is written). Raises ValidationError keyed by the emission field the engine refused."""
+    return HazardResult(emission=emission, limits=limits, computed_at=timezone.now(),
+                        **_result_values(emission_evaluate(emission, limits=limits)))
+
+
 def _result_values(evaluation: EmissionEvaluation) -> dict[str, object]:
     record = evaluation.record
     basis, skin = record["exposure_basis"], record["skin_limit"]

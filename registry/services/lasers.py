@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import datetime
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from django.core.exceptions import ValidationError
@@ -9,10 +10,19 @@ from django.db import transaction
 from django.utils import timezone
 
 from hazards.assessment import beam_fields
-from registry.models import EMISSION_BEAM_FIELDS, RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from registry.models import (
+    EMISSION_BEAM_FIELDS,
+    HAZARDOUS_CLASSES,
+    RETIRED_STATUSES,
+    Emission,
+    Laser,
+    LaserStatus,
+    Person,
+    Role,
+)
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
-from registry.services.errors import StateError
+from registry.services.errors import PrerequisiteError, StateError
 
 S = LaserStatus
 
@@ -51,11 +61,20 @@ def _check_fields(given: dict[str, Any], allowed: frozenset[str], *, what: str) 
 
 
 @transaction.atomic
-def laser_register(*, by: Person, asset_tag: str, **fields: Any) -> Laser:
-    """A new laser, pending review by an LSO. ``fields`` are LASER_EDITABLE_FIELDS."""
+def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[str, Any]] = (),
+                   **fields: Any) -> Laser:
+    """A new laser, pending review by an LSO, with its ``emissions`` (emission_create's fields
+    each) if given; all or nothing. ``fields`` are LASER_EDITABLE_FIELDS. A researcher registers
+    in their own name: the owner is the researcher."""
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
-    laser = Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields)
-    return validated_save(laser, by=by)
+    if by.role != Role.LSO:
+        if fields.get("owner") not in (None, by):
+            raise ValidationError({"owner": "You can only name yourself as the owner; ask the LSO to reassign."})
+        fields["owner"] = by
+    laser = validated_save(Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields), by=by)
+    for values in emissions:
+        emission_create(laser=laser, by=by, **values)
+    return laser
 
 
 def require_in_care(laser: Laser) -> None:
@@ -78,6 +97,12 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     return laser
 
 
+def _locked(laser: Laser) -> Laser:
+    """``laser`` read again with its row locked until the transaction ends, so that a workflow
+    step checks the status as it is now, not as the caller last read it (two LSOs at once)."""
+    return Laser.objects.select_for_update().get(pk=laser.pk)
+
+
 def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
     require_transition(laser, current=laser.status, target=target, allowed=LASER_TRANSITIONS)
     laser.status = target
@@ -88,6 +113,7 @@ def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
 @transaction.atomic
 def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Resubmit a returned registration for review."""
+    laser = _locked(laser)
     return _move(laser, LaserStatus.PENDING_REVIEW, by=by, note=note)
 
 
@@ -95,9 +121,16 @@ def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
 def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Accept a registration after review; the laser must describe at least one emission."""
     require_role(by, Role.LSO, action="approve a laser")
+    laser = _locked(laser)
     require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
     if not laser.emissions.exists():
         raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
+    if laser.labelled_class in HAZARDOUS_CLASSES or laser.embedded_class in HAZARDOUS_CLASSES:
+        # The review approves a hazard evaluation: a class 3B or 4 beam without one is not approved.
+        unassessed = [f"{emission} has no hazard assessment: {emission.assessment_problem or 'not assessed yet'}"
+                      for emission in laser.emissions.select_related("laser").filter(hazard_results__isnull=True)]
+        if unassessed:
+            raise PrerequisiteError(field="emissions", missing=unassessed)
     laser.review_comments = ""
     return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
 
@@ -106,6 +139,7 @@ def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
 def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
     """Send a registration back to its owner with what must change."""
     require_role(by, Role.LSO, action="return a laser registration")
+    laser = _locked(laser)
     laser.review_comments = require_text(comments, field="review_comments", what="A comment for the owner")
     return _move(laser, LaserStatus.RETURNED, by=by)
 

@@ -6,7 +6,7 @@ person_set_role keep the account's group membership and staff flag in step with 
 """
 from __future__ import annotations
 
-from django.contrib.auth import get_user_model
+from django.contrib.auth import get_user_model, password_validation
 from django.contrib.auth.models import AbstractUser, Group, Permission
 from django.core.exceptions import ValidationError
 from typing import Any
@@ -81,12 +81,17 @@ def person_create(
     by: Person | None = None,
 ) -> Person:
     """A new account and its person. Without a password the account cannot sign in
-    until one is set (an unusable password, not an empty one)."""
+    until one is set (an unusable password, not an empty one); a password given is held
+    to the site's password validators (AUTH_PASSWORD_VALIDATORS), refused keyed "password"."""
     user: AbstractUser = get_user_model()(username=username, first_name=first_name, last_name=last_name,
                                           email=email)
     if password is None:
         user.set_unusable_password()
     else:
+        try:
+            password_validation.validate_password(password, user)
+        except ValidationError as error:
+            raise ValidationError({"password": error.messages}) from None
         user.set_password(password)
     user.full_clean()
     user.save()

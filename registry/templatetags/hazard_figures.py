@@ -6,18 +6,24 @@ than as an empty cell, which could be taken for "no hazard".
 """
 from __future__ import annotations
 
+import re
+from dataclasses import dataclass
+
 from django import template
 from django.utils.translation import gettext as _
 
 from hazards.caution import CAUTION
 from hazards.limits.limit_set import load_limit_set
-from hazards.units import format_si
+from hazards.units import format_for_people
 from hazards.working import Step, StepDict, Working
-from registry.models import HazardResult
+from hazards.eyewear import Adequacy
+from registry.models import Emission, HazardResult
+from registry.selectors import result_under
 
 register = template.Library()
 
 NOT_COMPUTED = "not computed"
+NO_EYEWEAR_NEEDED = "no eyewear needed"
 
 @register.simple_tag
 def hazard_caution() -> str:
@@ -25,48 +31,48 @@ def hazard_caution() -> str:
 
 
 @register.filter
+def quantity(value: float | None, unit: str) -> str:
+    """Any figure for people: three significant figures with a metric prefix ("198 nJ/m²"), or "not computed"."""
+    if value is None:
+        return NOT_COMPUTED
+    return format_for_people(value, unit)
+
+
+@register.filter
 def distance(metres: float | None, unbounded: bool = False) -> str:
     """A hazard distance to three significant figures: "517 m", "1.41 km", "0 m"."""
     if unbounded:
         return _("unbounded (the collimated beam stays above the MPE at any distance)")
-    if metres is None:
-        return NOT_COMPUTED
-    if metres == 0:
-        return "0 m"
-    return format_si(metres, "m", digits=3)
+    return quantity(metres, "m")
 
 
 @register.filter
 def duration(seconds: float | None) -> str:
-    """An exposure duration: "0.25 s", "10 s", "30000 s" (prefixes only below a second)."""
-    if seconds is None:
-        return NOT_COMPUTED
-    return f"{seconds:g} s" if seconds >= 1e-3 else format_si(seconds, "s", digits=3)
+    """An exposure duration: "250 ms", "10 s", "30 000 s"."""
+    return quantity(seconds, "s")
 
 
 @register.filter
 def optical_density(required: float | None, exact: float | None = None) -> str:
-    """The OD eyewear must reach, with the unrounded value it was rounded up from."""
+    """The OD eyewear must reach ("no eyewear needed" for OD 0), with the unrounded value it
+    was rounded up from when ``exact`` is given."""
     if required is None:
         return NOT_COMPUTED
+    if required <= 0:
+        return NO_EYEWEAR_NEEDED
     shown = f"OD {required:g}"
     return shown if exact is None else f"{shown} (exact {exact:.3g})"
-
-
-def _number(value: float) -> str:
-    """Three significant figures, in plain digits between 0.001 and 100 000: 19600, not 1.96e+04."""
-    rounded = float(f"{value:.3g}")
-    return f"{rounded:g}" if 1e-3 <= abs(rounded) < 1e5 else f"{rounded:.3g}"
 
 
 def mpe(radiant_exposure_J_m2: float | None, irradiance_W_m2: float | None, exposure_s: float | None) -> str:
     """An MPE as both radiant exposure and irradiance, over the duration it assumes."""
     if radiant_exposure_J_m2 is None or irradiance_W_m2 is None:
         return NOT_COMPUTED
-    return (f"{_number(radiant_exposure_J_m2)} J/m\u00b2 = {_number(irradiance_W_m2)} W/m\u00b2 "
+    return (f"{format_for_people(radiant_exposure_J_m2, 'J/m2')} = {format_for_people(irradiance_W_m2, 'W/m2')} "
             f"over {duration(exposure_s)}")
 
 
+@register.filter
 def eye_mpe(result: HazardResult) -> str:
     """The eye MPE as stored; for pulsed emissions the per-pulse limit that governs comes first,
     since that is the figure each pulse is compared with."""
@@ -74,7 +80,7 @@ def eye_mpe(result: HazardResult) -> str:
     if result.eye_mpe_per_pulse_J_m2 is None:
         return whole
     rule = result.pulse_rule.replace("_", " ") or _("pulse rule not recorded")
-    return f"{_number(result.eye_mpe_per_pulse_J_m2)} J/m\u00b2 per pulse ({rule}); whole exposure {whole}"
+    return f"{format_for_people(result.eye_mpe_per_pulse_J_m2, 'J/m2')} per pulse ({rule}); whole exposure {whole}"
 
 
 @register.filter
@@ -104,3 +110,123 @@ def working_text(working: list[StepDict]) -> str:
     if not working:
         return _("no working stored")
     return working_steps(working).as_text()
+
+
+# --- the pages: the working for people, and two limit sets side by side -----------------------
+
+# The engine names its table rows ("row visible-thermal") for the data files; people read the citation.
+_ROW_IDENTIFIER = re.compile(r"\s*\(row [^)]*\)")
+# Units of working steps, as the engine writes them, in the form format_for_people takes.
+_STEP_UNITS = {"m": "m", "s": "s", "rad": "rad", "J/m^2": "J/m2", "J/m2": "J/m2", "W/m^2": "W/m2", "W/m2": "W/m2",
+               "mm": "mm", "mrad": "mrad", "m^2": "m2"}
+_CHECKED_STATUS = "read"
+
+
+@dataclass(frozen=True)
+class ReadableStep:
+    number: int
+    what: str
+    formula: str
+    inputs: str
+    value: str
+    source: str
+
+
+def _step_value(value: float | str | None, unit: str) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, str):
+        return value
+    shown_unit = _STEP_UNITS.get(unit)
+    if shown_unit in ("mm", "mrad", "m2"):
+        return f"{format_for_people(value, '')} {unit.replace('^2', '²')}"
+    if shown_unit is not None:
+        return format_for_people(value, shown_unit)
+    return f"{format_for_people(value, '')} {unit}".strip()
+
+
+def readable_working(working: list[StepDict]) -> list[ReadableStep]:
+    """The stored working as numbered steps for people: values with units, no row identifiers."""
+    return [ReadableStep(number=number, what=_ROW_IDENTIFIER.sub("", step["what"]), formula=step["formula"],
+                         inputs=", ".join(f"{name} = {_step_value(value, '')}" for name, value in step["inputs"].items()),
+                         value=_step_value(step["value"], step["unit"]), source=step["source"])
+            for number, step in enumerate(working, 1)]
+
+
+def unchecked_rows(working: list[StepDict]) -> list[str]:
+    """The steps resting on table rows not checked against the published text ("unverified", "from memory"...)."""
+    found: list[str] = []
+    for step in working:
+        for status in re.findall(r"\[([^\]]*)\]", step["source"]):
+            if not status.startswith(_CHECKED_STATUS):
+                found.append(f"{_ROW_IDENTIFIER.sub('', step['what'])}: {status}")
+    return list(dict.fromkeys(found))
+
+
+@dataclass(frozen=True)
+class FigureRow:
+    """One figure under the limit set shown and under another; ``differs`` marks a difference."""
+
+    label: str
+    shown: str
+    other: str
+    differs: bool
+
+
+def _figures(result: HazardResult | None) -> list[tuple[str, str]]:
+    if result is None:
+        return [(label, NOT_COMPUTED) for label in _FIGURE_LABELS]
+    values = (eye_mpe(result), duration(result.exposure_s),
+              mpe(result.skin_mpe_J_m2, result.skin_mpe_W_m2, result.skin_exposure_s),
+              distance(result.nohd_m, result.nohd_unbounded), distance(result.diffuse_hazard_distance_m),
+              distance(result.skin_hazard_distance_m), optical_density(result.od_required),
+              en207_marking(result.en207_marking))
+    return list(zip(_FIGURE_LABELS, values))
+
+
+_FIGURE_LABELS = ("Eye MPE", "Exposure basis (eye)", "Skin MPE", "NOHD", "Diffuse-reflection hazard distance",
+                  "Skin hazard distance", "Required eyewear", "EN 207 marking")
+
+
+def figure_rows(shown: HazardResult | None, other: HazardResult | None) -> list[FigureRow]:
+    """The figures of one emission under the limit set shown and another, row by row."""
+    return [FigureRow(label, mine, theirs, mine != theirs)
+            for (label, mine), (_, theirs) in zip(_figures(shown), _figures(other))]
+
+
+@register.filter
+def wavelength_text(emission: Emission) -> str:
+    """An emission's wavelength, or its range: "532 nm", "690 nm to 1.04 µm"."""
+    shown = format_for_people(emission.wavelength_m, "m")
+    if emission.wavelength_max_m is not None:
+        shown += f" to {format_for_people(emission.wavelength_max_m, 'm')}"
+    return shown
+
+
+_VERDICT_WORDS = {"adequate": "adequate", "inadequate": "inadequate", "not_covered": "not covered"}
+
+
+@register.filter
+def verdict(adequacy: Adequacy) -> str:
+    """The eyewear check in words, with the shortfall: "inadequate: OD 5 at 800 nm, OD 7 required"."""
+    words = _VERDICT_WORDS[adequacy.status]
+    if adequacy.status != "inadequate":
+        return words
+    return f"{words}: {'; '.join(adequacy.reasons)}" if adequacy.reasons else words
+
+
+@register.filter
+def result_for(emission: Emission, limits: str) -> HazardResult | None:
+    """The emission's stored result under ``limits`` (from the selector's prefetch), or None."""
+    return result_under(emission, limits)
+
+
+@register.filter
+def lookup(mapping: dict[object, object], key: object) -> object:
+    return mapping.get(key)
+
+
+@register.filter
+def attr_status(adequacy: Adequacy | None) -> str:
+    """The verdict's status as a CSS class suffix (the words beside it say the same)."""
+    return adequacy.status if adequacy is not None else "not_covered"

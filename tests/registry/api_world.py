@@ -3,7 +3,7 @@
 Personas (STYLE 8: owner, member, outsider): the LSO, an inspector, a researcher who owns
 the lasers under test (group "optics"), a researcher of another group who owns one other
 laser, and a laser user in the owner's group with current training, the SOP read and an
-authorization request pending.
+authorization request pending, who is authorized on one other laser of the owner.
 """
 from __future__ import annotations
 
@@ -47,6 +47,7 @@ class World:
     pending_laser: Laser
     returned_laser: Laser
     other_laser: Laser
+    authorized_laser: Laser
     training: TrainingRecord
     sop: SOP
     draft_sop: SOP
@@ -105,6 +106,12 @@ def build_world() -> World:
     services.sop_acknowledge(sop=sop, person=user)
     draft_sop = services.sop_create(laser=laser, title="Operating the test laser, revised", by=owner)
     authorization = services.authorization_request(person=user, laser=laser, by=owner)
+    authorized_laser = _active_laser(asset_tag="TST-0005", owner=owner, room=room, by=lso)
+    authorized_sop = services.sop_approve(sop=services.sop_create(laser=authorized_laser, title="Operating TST-0005",
+                                                                  by=owner), by=lso)
+    services.sop_acknowledge(sop=authorized_sop, person=user)
+    services.authorization_approve(
+        authorization=services.authorization_request(person=user, laser=authorized_laser, by=owner), by=lso)
     eyewear = services.eyewear_create(
         inventory_tag="TST-EW-1", location=room, by=lso, description="goggles for 532 nm",
         markings=[{"wavelength_min_m": "520 nm", "wavelength_max_m": "540 nm", "optical_density": 4.0}])
@@ -130,7 +137,7 @@ def build_world() -> World:
     return World(
         lso=lso, inspector=inspector, owner=owner, outsider=outsider, user=user, room=room, laser=laser,
         emission=emission, result=result, pending_laser=pending_laser, returned_laser=returned_laser,
-        other_laser=other_laser, training=training, sop=sop, draft_sop=draft_sop, authorization=authorization,
+        other_laser=other_laser, authorized_laser=authorized_laser, training=training, sop=sop, draft_sop=draft_sop, authorization=authorization,
         eyewear=eyewear, planned_audit=planned_audit, running_audit=running_audit, answered_audit=answered_audit,
         finding=finding, incident=incident, investigated_incident=investigated_incident,
     )

@@ -110,7 +110,7 @@ def test_a_laser_user_has_no_admin_access(client: Client) -> None:
 
 def test_the_approve_action_runs_the_review_and_reports_refusals(lso_client: Client) -> None:
     ready = factories.LaserFactory.create(status="pending_review")
-    factories.EmissionFactory.create(laser=ready)
+    factories.HazardResultFactory.create(emission=factories.EmissionFactory.create(laser=ready))
     empty = factories.LaserFactory.create(status="pending_review")
     response = lso_client.post(_changelist(Laser), {"action": "approve_registrations",
                                                     "_selected_action": [ready.pk, empty.pk]}, follow=True)

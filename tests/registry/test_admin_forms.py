@@ -126,10 +126,19 @@ def test_distances_read_with_three_figures_and_a_unit(metres: float | None, unbo
     assert hazard_figures.distance(metres, unbounded) == shown
 
 
-@pytest.mark.parametrize(("seconds", "shown"), [(0.25, "0.25 s"), (10.0, "10 s"), (3.0e4, "30000 s"),
+@pytest.mark.parametrize(("seconds", "shown"), [(0.25, "250 ms"), (10.0, "10 s"), (3.0e4, "30 000 s"),
                                                 (1e-8, "10 ns"), (None, "not computed")])
-def test_exposure_durations_read_in_seconds(seconds: float | None, shown: str) -> None:
+def test_exposure_durations_read_with_three_figures_and_no_kiloseconds(seconds: float | None, shown: str) -> None:
     assert hazard_figures.duration(seconds) == shown
+
+
+# Issue 10: an OD of 0, whatever it was rounded from, is said in words.
+@pytest.mark.parametrize(("required", "exact", "shown"), [
+    (0.0, -0.04, "no eyewear needed"), (0.0, None, "no eyewear needed"), (3.0, 2.47, "OD 3 (exact 2.47)"),
+    (5.0, None, "OD 5"), (None, None, "not computed")])
+def test_optical_densities_say_when_no_eyewear_is_needed(required: float | None, exact: float | None,
+                                                          shown: str) -> None:
+    assert hazard_figures.optical_density(required, exact) == shown
 
 
 def test_the_working_reads_as_numbered_lines_with_units_and_sources() -> None:
@@ -304,7 +313,7 @@ def test_the_result_list_shows_distances_with_units_and_the_caution(lso_client: 
     assert "unbounded" in html
     assert "OD 3" in html and "D LB3" in html
     assert "eu2006" in html
-    assert "6.4 J/m\u00b2 = 25.6 W/m\u00b2 over 0.25 s" in html
+    assert "6.4 J/m\u00b2 = 25.6 W/m\u00b2 over 250 ms" in html
     assert escape(CAUTION) in html
 
 
@@ -313,7 +322,7 @@ def test_a_pulsed_result_shows_the_per_pulse_limit_and_its_rule_first(lso_client
     factories.HazardResultFactory.create(eye_mpe_per_pulse_J_m2=0.0158, pulse_rule="reduced_single_pulse",
                                          eye_mpe_J_m2=1.58, eye_mpe_W_m2=0.158, exposure_s=10.0)
     html = lso_client.get(reverse("admin:registry_hazardresult_changelist")).content.decode()
-    assert ("0.0158 J/m\u00b2 per pulse (reduced single pulse); whole exposure 1.58 J/m\u00b2 = 0.158 W/m\u00b2 "
+    assert ("15.8 mJ/m\u00b2 per pulse (reduced single pulse); whole exposure 1.58 J/m\u00b2 = 158 mW/m\u00b2 "
             "over 10 s") in html
 
 
@@ -329,7 +338,7 @@ def test_the_result_page_shows_figures_working_and_caution_for_a_computed_emissi
     # ICNIRP 2013 retinal thermal limit 400-700 nm: H = 18 t^0.75 J/m^2 at t = 0.25 s (aversion).
     radiant_exposure = 18 * 0.25 ** 0.75
     irradiance = radiant_exposure / 0.25
-    assert f"{radiant_exposure:.3g} J/m\u00b2 = {irradiance:.3g} W/m\u00b2 over 0.25 s" in html
+    assert f"{radiant_exposure:.3g} J/m\u00b2 = {irradiance:.3g} W/m\u00b2 over 250 ms" in html
     # IEC TR 60825-14 beam-hazard NOHD, with 1/e^2 diameter and divergence taken to 1/e (/ sqrt 2):
     # r = sqrt(4 P / (pi E) - a^2) / phi.
     a, phi = 1e-3 / math.sqrt(2), 1e-3 / math.sqrt(2)
@@ -355,5 +364,5 @@ def test_the_emission_page_shows_its_results_with_the_caution(lso_client: Client
     assert "NOHD 31.6 m, OD 2" in html
     assert escape(CAUTION) in html
     detail = lso_client.get(reverse("admin:registry_hazardresult_change", args=[result.pk])).content.decode()
-    # ICNIRP 2013 skin limit 400-1400 nm, 10 s - 30 ks: E = 2000 W/m^2 C_A, shown in plain digits.
-    assert "20000 J/m\u00b2 = 2000 W/m\u00b2 over 10 s" in detail
+    # ICNIRP 2013 skin limit 400-1400 nm, 10 s - 30 ks: E = 2000 W/m^2 C_A, shown with a prefix, no exponent.
+    assert "20 kJ/m\u00b2 = 2 kW/m\u00b2 over 10 s" in detail

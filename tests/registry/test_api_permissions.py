@@ -1,7 +1,9 @@
 """The permission matrix: every endpoint x persona x method, with the status each must get.
 
-The expected statuses are written out by hand from issue 5's role rules (not derived
-from registry.permissions), so a policy change shows up here as a failing row. A refused
+The expected statuses are written out by hand from issue 5's role rules, as changed by
+issue 10 (a laser user reads the lasers they are authorized on; the LSO adds people; anyone
+signed in reports an incident on a laser they can see), not derived from
+registry.permissions, so a policy change shows up here as a failing row. A refused
 write must leave every row count of the register, history included, unchanged.
 test_every_operation_is_in_the_matrix keeps new endpoints from escaping it.
 """
@@ -46,6 +48,7 @@ EVERYONE = _s(401, 200, 200, 200, 200, 200)
 LSO_INSPECTOR = _s(401, 200, 200, 403, 403, 403)
 LSO_WRITE = _s(401, 200, 403, 403, 403, 403)
 LSO_CREATE = _s(401, 201, 403, 403, 403, 403)
+EVERYONE_CREATE = _s(401, 201, 201, 201, 201, 201)
 OWNER_DETAIL = _s(401, 200, 200, 200, 404, 403)  # visible to the owner only among researchers
 OWNER_HISTORY = _s(401, 200, 200, 200, 403, 403)
 OWNER_WRITE = _s(401, 200, 403, 200, 403, 403)
@@ -70,8 +73,12 @@ ROWS: dict[str, Row] = {
         "site": "Test Site", "building": "Alder Hall", "room": "101A", "is_controlled_area": True},
         LSO_WRITE, needs_if_match=True),
     # Lasers and their workflow
-    "lasers list": Row("get", f"{V}/lasers/", None, None, READERS),
-    "laser detail": Row("get", f"{V}/lasers/{{id}}/", laser, None, READERS),
+    # A laser user lists only the lasers they are authorized on (an empty page is still 200).
+    "lasers list": Row("get", f"{V}/lasers/", None, None, EVERYONE),
+    # The user's request on this laser is not approved yet: it is outside their scope.
+    "laser detail": Row("get", f"{V}/lasers/{{id}}/", laser, None, _s(401, 200, 200, 200, 200, 404)),
+    "laser detail (the user is authorized)": Row("get", f"{V}/lasers/{{id}}/", lambda w: w.authorized_laser.pk,
+                                                 None, EVERYONE),
     "laser history": Row("get", f"{V}/lasers/{{id}}/history/", laser, None, OWNER_HISTORY),
     "laser register": Row("post", f"{V}/lasers/", None, lambda w: {
         "asset_tag": "TST-0100", "laser_type": "diode", "labelled_class": "3R", "location": w.room.pk},
@@ -110,6 +117,9 @@ ROWS: dict[str, Row] = {
                                  LSO_INSPECTOR),
     # People: researchers see their own group only, users themselves only
     "people list": Row("get", f"{V}/people/", None, None, EVERYONE),
+    "person create": Row("post", f"{V}/people/", None, lambda w: {
+        "username": "nia", "first_name": "Nia", "last_name": "Orme", "role": "user",
+        "research_group": w.owner.research_group_id, "supervisor": w.owner.pk}, LSO_CREATE),
     "person detail (the user)": Row("get", f"{V}/people/{{id}}/", lambda w: w.user.pk, None,
                                     _s(401, 200, 200, 200, 404, 200)),
     "person history": Row("get", f"{V}/people/{{id}}/history/", lambda w: w.user.pk, None, LSO_INSPECTOR),
@@ -234,7 +244,11 @@ ROWS: dict[str, Row] = {
     "incident history": Row("get", f"{V}/incidents/{{id}}/history/", lambda w: w.incident.pk, None, LSO_INSPECTOR),
     "incident report": Row("post", f"{V}/incidents/", None, lambda w: {
         "reference": "TST-INC-9", "kind": "near_miss", "occurred_at": "2026-11-30T10:00:00Z",
-        "description": "Beam block slipped.", "laser": w.laser.pk}, _s(401, 201, 403, 201, 201, 403)),
+        "description": "Beam block slipped.", "laser": w.laser.pk}, _s(401, 201, 201, 201, 201, 400)),
+    # The user may name only a laser they can see: the one they are authorized on.
+    "incident report (the user's laser)": Row("post", f"{V}/incidents/", None, lambda w: {
+        "reference": "TST-INC-8", "kind": "near_miss", "occurred_at": "2026-11-30T10:00:00Z",
+        "description": "Goggles found scratched.", "laser": w.authorized_laser.pk}, EVERYONE_CREATE),
     "incident retire": Row("post", f"{V}/incidents/{{id}}/retire/", lambda w: w.incident.pk,
                   lambda w: {"reason": "Recorded twice."}, LSO_WRITE),
     "incident edit": Row("patch", f"{V}/incidents/{{id}}/", lambda w: w.incident.pk,

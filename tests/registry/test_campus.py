@@ -76,6 +76,11 @@ class CampusContentTests(TestCase):
                     self.assertIsNotNone(laser.location_id)
                     self.assertIsNotNone(laser.owner_id)
 
+    def test_one_pending_registration_cannot_be_assessed_and_says_why(self) -> None:
+        self.assertEqual([(emission, reason.split(":")[0]) for emission, reason in self.summary.not_assessed],
+                         [("FV-0029 450 nm continuous wave", "full-angle divergence (rad)")])
+        self.assertEqual(Laser.objects.get(asset_tag="FV-0029").status, "pending_review")
+
     def test_pulsed_emissions_agree_with_their_average_power(self) -> None:
         # Average power = pulse energy x repetition rate, to the rounding of a data sheet.
         pulsed = Emission.objects.filter(pulse_energy_J__isnull=False, prf_Hz__isnull=False,
@@ -137,11 +142,11 @@ def test_seed_campus_prints_demo_credentials_in_development(settings: Settings) 
     out = StringIO()
     call_command("seed_campus", stdout=out)
     output = out.getvalue()
-    assert output.startswith("Fenwick Vale Research Campus: 12 locations, 28 lasers")
+    assert output.startswith("Fenwick Vale Research Campus: 12 locations, 29 lasers")
     for username in ("lso", "researcher", "user", "inspector"):
         assert f"username {username:<11} password {demo_password(username)}" in output
     call_command("seed_campus", stdout=StringIO())
-    assert Laser.objects.count() == 28
+    assert Laser.objects.count() == 29
 
 
 @pytest.mark.django_db

@@ -6,6 +6,7 @@ from django.core.exceptions import PermissionDenied, ValidationError
 
 from registry.models import Emission, Laser, LaserStatus, RecordRetainedError
 from registry.services import (
+    PrerequisiteError,
     StateError,
     TransitionError,
     emission_create,
@@ -61,11 +62,31 @@ def test_registration_refuses_fields_that_belong_to_the_workflow(researcher: fac
 
 def test_the_lso_approves_a_laser_with_an_emission(lso: factories.Person) -> None:
     laser = factories.LaserFactory.create(status="pending_review")
-    factories.EmissionFactory.create(laser=laser)
+    factories.HazardResultFactory.create(emission=factories.EmissionFactory.create(laser=laser))
     laser_approve(laser=laser, by=lso)
     laser.refresh_from_db()
     assert laser.status == LaserStatus.ACTIVE
     assert laser.history.first().history_user == lso.user
+
+
+def test_a_class_3b_laser_whose_emission_cannot_be_assessed_is_not_approved_and_the_reason_is_given(
+        lso: factories.Person) -> None:
+    laser = factories.LaserFactory.create(status="pending_review", labelled_class="3B")
+    emission_create(laser=laser, by=None, wavelength_m="405 nm", temporal_mode="cw", average_power_W="100 mW",
+                    beam_diameter_m="1 mm")  # no divergence: the engine cannot assess it
+    with pytest.raises(PrerequisiteError) as raised:
+        laser_approve(laser=laser, by=lso)
+    assert "no hazard assessment: full-angle divergence (rad): needed to assess" in raised.value.message_dict["emissions"][0]
+    laser.refresh_from_db()
+    assert laser.status == LaserStatus.PENDING_REVIEW
+
+
+def test_a_class_2_laser_is_approved_without_an_assessment(lso: factories.Person) -> None:
+    laser = factories.LaserFactory.create(status="pending_review", labelled_class="2", embedded_class="")
+    factories.EmissionFactory.create(laser=laser, average_power_W=0.9e-3)
+    laser_approve(laser=laser, by=lso)
+    laser.refresh_from_db()
+    assert laser.status == LaserStatus.ACTIVE
 
 
 def test_approval_is_refused_without_an_emission(lso: factories.Person) -> None:

@@ -1,0 +1,72 @@
+"""What a laser would mean before it is registered: its figures and what it does to its room.
+
+Nothing here writes. The new laser and its emissions are unsaved instances; the engine runs
+through registry.services.hazards (as it would on saving), and the room's eyewear is judged
+with the same check as the room's adequacy matrix (registry.selectors.eyewear_verdicts).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from django.core.exceptions import ValidationError
+from hazards.eyewear import Adequacy
+
+from registry import selectors
+from registry.models import Emission, Eyewear, HazardResult, Laser
+from registry.services.hazards import emission_preview
+
+
+@dataclass(frozen=True)
+class EmissionPreview:
+    """One new emission under the lead limit set: its result, or why it cannot be assessed."""
+
+    emission: Emission
+    result: HazardResult | None
+    problem: str
+    verdicts: dict[int, Adequacy]
+    protected: bool
+    beyond_room: bool
+
+
+@dataclass(frozen=True)
+class RegistrationPreview:
+    laser: Laser
+    limits: str
+    emissions: list[EmissionPreview]
+    room: selectors.RoomHazards
+    eyewear: list[Eyewear]
+    # Items adequate for every emission in the room that needs eyewear today, but not for a new one.
+    no_longer_adequate: list[Eyewear]
+    signal_word_now: str | None
+    signal_word_after: str | None
+
+
+def laser_registration_preview(*, laser: Laser, emissions: list[Emission], limits: str | None = None) -> RegistrationPreview:
+    """Assess ``emissions`` (unsaved, each with ``laser`` set) and set them against ``laser.location``."""
+    chosen = limits or selectors.register_limits()
+    assert laser.location is not None
+    room = selectors.room_hazards(locations=[laser.location], limits=chosen)[0]
+    items = room.matrix.eyewear
+    previews: list[EmissionPreview] = []
+    for emission in emissions:
+        try:
+            result = emission_preview(emission, limits=chosen)
+        except ValidationError as error:
+            previews.append(EmissionPreview(emission, None, "; ".join(error.messages), {}, False, False))
+            continue
+        verdicts = selectors.eyewear_verdicts(emission, result, items)
+        protected = result.od_required == 0 or selectors.protects(verdicts, items)
+        previews.append(EmissionPreview(emission, result, "", verdicts, protected,
+                                        selectors.nohd_exceeds(result, laser.location)))
+    needing = [emission for emission in room.matrix.emissions
+               if (result := selectors.result_under(emission, chosen)) is not None and (result.od_required or 0) > 0]
+    adequate_today = [item for item in items
+                      if all(room.matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in needing)]
+    no_longer = [item for item in adequate_today
+                 if any(preview.result is not None and (preview.result.od_required or 0) > 0
+                        and preview.verdicts[item.pk].status != "adequate" for preview in previews)]
+    classes_now = [existing.effective_class for existing in room.lasers]
+    return RegistrationPreview(
+        laser=laser, limits=chosen, emissions=previews, room=room, eyewear=items, no_longer_adequate=no_longer,
+        signal_word_now=selectors.signal_word(classes_now),
+        signal_word_after=selectors.signal_word([*classes_now, laser.effective_class]))

@@ -1,0 +1,22 @@
+"""One room: its lasers, eyewear and adequacy matrix, entry controls, and NOHD against its size."""
+from __future__ import annotations
+
+from django.http import HttpResponse
+from django.shortcuts import render
+
+from registry import permissions, selectors
+from registry.models import Location
+from registry.views.access import PageRequest, page, visible_or_404
+
+
+@page(permissions.LOCATIONS, "retrieve")
+def location_detail(request: PageRequest, pk: int) -> HttpResponse:
+    location = visible_or_404(permissions.LOCATIONS, request.person, Location.objects.all(), pk)
+    room = selectors.room_hazards(locations=[location])[0]
+    rows = [{"emission": emission, "result": selectors.result_under(emission, room.matrix.limits),
+             "cells": [(item, room.matrix.cells[(emission.pk, item.pk)]) for item in room.matrix.eyewear]}
+            for emission in room.matrix.emissions]
+    return render(request, "pages/location.html", {
+        "location": location, "room": room, "rows": rows, "limits": room.matrix.limits,
+        "signal_word": selectors.signal_word(laser.effective_class for laser in room.lasers),
+    })

@@ -1,0 +1,210 @@
+"""The register's pages in a real browser, on the demo campus, as each role uses them.
+
+Debian's chromium through Playwright's Python API against pytest-django's live server (see
+test_api_docs.py for why Playwright is started per module and DJANGO_ALLOW_ASYNC_UNSAFE is set
+only while it runs). Screenshots of the main pages go to test-artifacts/screenshots/ (gitignored;
+BROWSER_ARTIFACTS names another folder) for a person to look at.
+"""
+from __future__ import annotations
+
+import math
+import os
+import re
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+from urllib.parse import urlsplit
+
+import pytest
+from playwright.sync_api import Browser, Page, expect, sync_playwright
+
+from registry.models import Emission, HazardResult, Laser, LaserStatus, Location
+from registry.services.campus import campus_load, campus_read
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
+CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+ARTIFACTS = Path(os.environ.get("BROWSER_ARTIFACTS", Path(__file__).resolve().parents[2] / "test-artifacts"))
+
+pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
+
+
+@pytest.fixture(scope="module")
+def browser() -> Iterator[Browser]:
+    previous = os.environ.get("DJANGO_ALLOW_ASYNC_UNSAFE")
+    os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
+    try:
+        with sync_playwright() as playwright:
+            browser = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_FLAGS)
+            yield browser
+            browser.close()
+    finally:
+        if previous is None:
+            del os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"]
+        else:
+            os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = previous
+
+
+@pytest.fixture
+def campus(live_server: Any) -> str:
+    campus_load(data=campus_read(), set_demo_passwords=True)
+    return str(live_server.url)
+
+
+@pytest.fixture
+def open_page(browser: Browser, campus: str) -> Iterator[Any]:
+    """open_page(username) -> a signed-in page; every request leaving the test server is refused and recorded."""
+    contexts = []
+    outside: list[str] = []
+
+    def sign_in(username: str) -> Page:
+        context = browser.new_context(viewport={"width": 1280, "height": 900})
+        contexts.append(context)
+        page = context.new_page()
+        local = urlsplit(campus).netloc
+        page.route("**/*", lambda route: route.continue_() if urlsplit(route.request.url).netloc == local
+                   else (outside.append(route.request.url), route.abort()))
+        page.goto(f"{campus}/lasers/")
+        # Anonymous: sent to sign in, then back where they were going.
+        expect(page).to_have_url(re.compile(r"/login/\?next=/lasers/"))
+        page.get_by_label("Username").fill(username)
+        page.get_by_label("Password").fill(f"{username}-demo")
+        page.get_by_role("button", name="Sign in").click()
+        expect(page).to_have_url(f"{campus}/lasers/")
+        return page
+
+    yield sign_in
+    for context in contexts:
+        context.close()
+    assert outside == []
+
+
+def _shot(page: Page, name: str) -> None:
+    folder = ARTIFACTS / "screenshots"
+    folder.mkdir(parents=True, exist_ok=True)
+    page.screenshot(path=str(folder / f"{name}.png"), full_page=True)
+
+
+def _fill_emission(page: Page, **values: str) -> None:
+    for label, value in values.items():
+        page.get_by_label(re.compile(f"^{label}")).fill(value)
+
+
+def test_a_researcher_registers_a_laser_with_units_sees_the_preview_and_the_lso_approves_it(
+        open_page: Any, campus: str) -> None:
+    researcher = open_page("researcher")
+    researcher.goto(f"{campus}/lasers/new/")
+    proposed = researcher.get_by_label("Asset tag").input_value()
+    assert proposed == "FV-0030"
+    expect(researcher.get_by_label("Asset tag")).to_be_disabled()
+    researcher.get_by_label("Manufacturer").fill("Tarrow Diodes")
+    researcher.get_by_label("Model").fill("TD-2000")
+    researcher.get_by_label("Type").select_option("diode")
+    researcher.get_by_label("Labelled class").select_option("4")
+    researcher.get_by_label("Room").select_option(label="Kestrel Building 0.12 (Ultrafast laser laboratory)")
+    _fill_emission(researcher, **{"Wavelength": "808 nm", "Average power": "2 W", "Beam diameter at the aperture": "3 mm",
+                                  "Full-angle divergence": "1 mrad"})
+    researcher.get_by_label("Temporal mode").select_option("cw")
+
+    # A bad value: an inline error naming the field, nothing saved.
+    researcher.get_by_label("Pulse duration").fill("35 parsecs")
+    researcher.get_by_role("button", name="Preview").click()
+    expect(researcher.locator(".errorlist")).to_contain_text("pulse duration")
+    _shot(researcher, "register-a-laser-error")
+    assert not Laser.objects.filter(asset_tag=proposed).exists()
+
+    researcher.get_by_label("Pulse duration").fill("")
+    researcher.get_by_role("button", name="Preview").click()
+    preview = researcher.locator("#preview")
+    expect(preview).to_contain_text("NOHD")
+    expect(preview).to_contain_text("Door sign")
+    expect(preview).to_contain_text("Caution")
+    _shot(researcher, "register-a-laser-preview")
+    assert not Laser.objects.filter(asset_tag=proposed).exists()
+
+    researcher.get_by_role("button", name="Submit for review").click()
+    expect(researcher.locator(".messages")).to_contain_text("review queue")
+    laser = Laser.objects.get(asset_tag=proposed)
+    assert laser.status == LaserStatus.PENDING_REVIEW
+    assert Emission.objects.get(laser=laser).average_power_W == pytest.approx(2.0)
+
+    lso = open_page("lso")
+    lso.goto(f"{campus}/review/")
+    expect(lso.get_by_role("heading", name=re.compile(proposed))).to_be_visible()
+    _shot(lso, "review-queue")
+    lso.get_by_role("button", name=f"Approve {proposed}").click()
+    expect(lso.locator(".messages")).to_contain_text(f"{proposed} is approved")
+    laser.refresh_from_db()
+    assert laser.status == LaserStatus.ACTIVE
+
+    lso.goto(f"{campus}/lasers/?ordering=-nohd&status=active")
+    tags = lso.locator("tbody tr td:first-child a").all_inner_texts()
+    # Longest NOHD first (an unbounded one before any distance), ties by asset tag, read from the stored results.
+    longest: dict[str, float] = {}
+    for result in HazardResult.objects.filter(limits="icnirp2013", emission__laser__status=LaserStatus.ACTIVE):
+        tag = result.emission.laser.asset_tag
+        nohd = math.inf if result.nohd_unbounded else (result.nohd_m or 0.0)
+        longest[tag] = max(longest.get(tag, 0.0), nohd)
+    assert tags == sorted(longest, key=lambda tag: (-longest[tag], tag))
+    assert proposed in tags
+    _shot(lso, "register-by-nohd")
+
+
+def test_an_inspector_reads_a_laser_page_and_finds_no_edit_control(open_page: Any, campus: str) -> None:
+    inspector = open_page("inspector")
+    laser = Laser.objects.get(asset_tag="FV-0005")
+    inspector.goto(f"{campus}/lasers/{laser.pk}/")
+    expect(inspector.get_by_role("heading", name=re.compile("FV-0005"))).to_be_visible()
+    expect(inspector.get_by_role("note", name="Caution")).to_be_visible()
+    expect(inspector.locator("table.figures").first).to_contain_text("NOHD")
+    inspector.locator("summary").first.click()
+    expect(inspector.locator("ol.working").first).to_be_visible()
+    assert "(row " not in inspector.locator("ol.working").first.inner_text()
+    # The only form on the page is signing out; no link leads to an edit.
+    assert inspector.locator("main form").count() == 0
+    assert inspector.get_by_role("link", name=re.compile("edit|back office", re.IGNORECASE)).count() == 0
+    assert inspector.get_by_role("button", name=re.compile("approve|return|resubmit|save", re.IGNORECASE)).count() == 0
+    for image in inspector.locator("figure.chart img").all():
+        assert image.evaluate("element => element.naturalWidth") > 0
+    _shot(inspector, "laser-page-inspector")
+    inspector.goto(f"{campus}/")
+    _shot(inspector, "home-inspector")
+
+
+def test_a_laser_user_sees_the_figures_and_eyewear_for_the_laser_they_are_authorized_on(
+        open_page: Any, campus: str) -> None:
+    user = open_page("user")
+    tags = user.locator("tbody tr td:first-child a").all_inner_texts()
+    assert tags == ["FV-0001", "FV-0002"]
+    user.goto(f"{campus}/")
+    lasers = user.get_by_role("region", name="The lasers I may use: figures and eyewear")
+    expect(lasers).to_contain_text("FV-0001")
+    expect(lasers).to_contain_text("NOHD")
+    expect(lasers).to_contain_text("517 m")
+    expect(user.get_by_role("note", name="Caution")).to_be_visible()
+    _shot(user, "home-laser-user")
+    other = Laser.objects.get(asset_tag="FV-0005")
+    response = user.goto(f"{campus}/lasers/{other.pk}/")
+    assert response is not None and response.status == 404
+
+
+def test_the_room_page_flags_the_room_whose_goggles_are_inadequate(open_page: Any, campus: str) -> None:
+    lso = open_page("lso")
+    lso.goto(f"{campus}/")
+    eyewear = lso.get_by_role("region", name=re.compile("Rooms whose eyewear is inadequate"))
+    expect(eyewear).to_contain_text("Kestrel Building 0.12")
+    _shot(lso, "home-lso")
+    room = Location.objects.get(code="kes-0-12")
+    eyewear.get_by_role("link", name=re.compile("Kestrel Building 0.12")).click()
+    expect(lso).to_have_url(f"{campus}/locations/{room.pk}/")
+    expect(lso.get_by_role("alert")).to_contain_text("Eyewear inadequate")
+    matrix = lso.locator("table.matrix")
+    expect(matrix).to_contain_text("EW-001")
+    expect(matrix.locator("td.verdict-inadequate").first).to_contain_text("inadequate:")
+    _shot(lso, "room-kes-0-12")
+    lso.goto(f"{campus}/people/")
+    _shot(lso, "people")
+    # Jonah's request on FV-0001 waits while his general training has expired.
+    lso.get_by_role("link", name="Jonah Pereira").click()
+    expect(lso.get_by_role("region", name="Decide: FV-0001")).to_contain_text("has no valid general laser safety training")
+    _shot(lso, "person-with-a-pending-request")
