@@ -150,9 +150,12 @@ def test_the_demo_campus_stores_results_for_the_emissions_it_can_assess() -> Non
             assert result.nohd_unbounded or (result.nohd_m is not None and math.isfinite(result.nohd_m))
 
 
-def test_every_demo_emission_assesses_without_error() -> None:
+def test_every_demo_emission_assesses_but_the_one_awaiting_its_divergence() -> None:
+    # FV-0029 is pending review because its data sheet gives no divergence (the demo's "not assessed" case).
     summary = campus_load(data=campus_read())
-    assert summary.not_assessed == []
+    assert summary.not_assessed == [("FV-0029 450 nm continuous wave",
+                                     "full-angle divergence (rad): needed to assess the hazard of FV-0029 450 nm "
+                                     "continuous wave")]
 
 
 def test_a_pulse_train_stores_the_per_pulse_limit_and_the_rule_that_governs(researcher: Person) -> None:

@@ -334,10 +334,10 @@ class RegistrationTests(TestCase):
                 self.assertEqual(response.status_code, 200)
                 self.assertContains(response, f'<ul class="errorlist" id="id_{field}_error"><li>{words}')
                 self.assertContains(response, 'aria-invalid="true"')
-        # A rule between two fields (the model's constraint) is shown at the top of the emission's fields.
+        # A rule between two fields (the engine's, hazards.assessment.inputs) is shown on the field it names.
         response = self._post("owner", "submit", **{"emissions-0-pulse_duration_s": "2 s"})
-        self.assertContains(response, '<ul class="errorlist nonfield"><li>Pulse duration must not be longer than the '
-                                      'pulse period 1/PRF.</li></ul>')
+        self.assertContains(response, '<ul class="errorlist" id="id_emissions-0-pulse_duration_s_error"><li>2 s is not '
+                                      'shorter than the pulse period 100 ms at 10 Hz')
         self.assertEqual(register_state(), before)
 
     def test_another_emission_form_is_added_without_losing_what_was_typed(self) -> None:
