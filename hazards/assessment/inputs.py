@@ -21,7 +21,7 @@ from hazards.errors import InputError
 from hazards.eyewear import EyewearBand, parse_marking
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS, check_limit_set
 from hazards.limits.limit_set import load_limit_set
-from hazards.units import format_si, parse_quantity
+from hazards.units import format_for_people, parse_quantity
 
 Mode = Literal["continuous", "single_pulse", "pulse_train"]
 
@@ -200,8 +200,8 @@ def check_beam_values(values: Mapping[str, float | None], *, mode: Mode) -> None
             fields[name].check(value, field=name)
     low, high = values.get("wavelength"), values.get("wavelength_max")
     if low is not None and high is not None and high <= low:
-        raise InputError("wavelength_max", f"{format_si(high, 'm')} is not longer than the wavelength "
-                         f"{format_si(low, 'm')}; give the range from its shortest to its longest wavelength")
+        raise InputError("wavelength_max", f"{format_for_people(high, 'm')} is not longer than the wavelength "
+                         f"{format_for_people(low, 'm')}; give the range from its shortest to its longest wavelength")
     duration, prf = values.get("pulse_duration"), values.get("prf")
     if mode == "continuous":
         for name in ("pulse_duration", "pulse_energy", "prf"):
@@ -212,14 +212,14 @@ def check_beam_values(values: Mapping[str, float | None], *, mode: Mode) -> None
     if mode != "pulse_train" or duration is None or prf is None:
         return
     if duration * prf >= 1.0:
-        raise InputError("pulse_duration", f"{format_si(duration, 's')} is not shorter than the pulse period "
-                         f"{format_si(1.0 / prf, 's')} at {format_si(prf, 'Hz')} (a train needs gaps between pulses)")
+        raise InputError("pulse_duration", f"{format_for_people(duration, 's')} is not shorter than the pulse period "
+                         f"{format_for_people(1.0 / prf, 's')} at {format_for_people(prf, 'Hz')} (a train needs gaps between pulses)")
     power, energy = values.get("power"), values.get("pulse_energy")
     if power is not None and energy is not None:
         implied = energy * prf
         if abs(implied - power) > POWER_CONSISTENCY * max(implied, power):
-            raise InputError("power", f"average power {format_si(power, 'W')} disagrees with pulse energy x prf = "
-                             f"{format_si(implied, 'W')} by more than {POWER_CONSISTENCY:.0%}; give one of them or "
+            raise InputError("power", f"average power {format_for_people(power, 'W')} disagrees with pulse energy x prf = "
+                             f"{format_for_people(implied, 'W')} by more than {POWER_CONSISTENCY:.0%}; give one of them or "
                              "correct either")
 
 

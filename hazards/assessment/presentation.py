@@ -23,7 +23,7 @@ from hazards.eyewear import Adequacy, En207Rating, En207RatingDict
 from hazards.limits import PulseTrainLimit, exposure_duration_basis
 from hazards.limits.exposure import LimitRecord
 from hazards.limits.pulses import TrainRecord
-from hazards.units import format_si
+from hazards.units import format_for_people
 from hazards.working import Step, StepDict, Working
 
 _UNVERIFIED = ("from memory", "unverified")
@@ -252,7 +252,7 @@ class Assessment:
             warnings.append("The exposure duration given does not apply to a single pulse; the pulse duration is "
                             "used. Give a pulse repetition frequency to assess a train.")
         if beam.mode != "single_pulse" and not batch.exposure_given[index]:
-            warnings.append(f"Exposure duration {format_si(self.exposure_s, 's')} is the common-practice default; "
+            warnings.append(f"Exposure duration {format_for_people(self.exposure_s, 's')} is the common-practice default; "
                             "the LSO may require a longer one (for example for deliberate or prolonged viewing).")
         return list(dict.fromkeys(warnings))
 
@@ -365,7 +365,7 @@ class Assessment:
             limit = self._at(option.limit)
             if not math.isfinite(limit):
                 continue
-            working.add(f"{name}: {_rule_words(option.rule)} over a {format_si(self._at(option.aperture_m), 'm')} "
+            working.add(f"{name}: {_rule_words(option.rule)} over a {format_for_people(self._at(option.aperture_m), 'm')} "
                         "aperture", f"exposure = {amount_name} / max(beam area, aperture area); ratio = exposure / L",
                         float(tissue.ratio[number, self.index]), "",
                         "the exposure averaged as the limit defines it (IEC TR 60825-14 beam-hazard form)",
@@ -402,24 +402,24 @@ class Assessment:
         beam = self.beam
         basis = record["exposure_basis"]
         lines = [
-            f"Emission: {format_si(beam.wavelength_m, 'm')}, {beam.mode.replace('_', ' ')}"
-            + (f", average power {format_si(beam.average_power_W, 'W')}" if beam.average_power_W else "")
-            + (f", {format_si(beam.energy_per_pulse_J, 'J')} per pulse" if beam.mode != "continuous"
+            f"Emission: {format_for_people(beam.wavelength_m, 'm')}, {beam.mode.replace('_', ' ')}"
+            + (f", average power {format_for_people(beam.average_power_W, 'W')}" if beam.average_power_W else "")
+            + (f", {format_for_people(beam.energy_per_pulse_J, 'J')} per pulse" if beam.mode != "continuous"
                and beam.energy_per_pulse_J else "")
-            + (f", pulses of {format_si(beam.pulse_duration_s, 's')}" if beam.pulse_duration_s else "")
-            + (f" at {format_si(beam.prf_Hz, 'Hz')}" if beam.prf_Hz else ""),
-            f"Beam: {format_si(beam.beam_diameter_m, 'm')} diameter, {format_si(beam.divergence_rad, 'rad')} "
+            + (f", pulses of {format_for_people(beam.pulse_duration_s, 's')}" if beam.pulse_duration_s else "")
+            + (f" at {format_for_people(beam.prf_Hz, 'Hz')}" if beam.prf_Hz else ""),
+            f"Beam: {format_for_people(beam.beam_diameter_m, 'm')} diameter, {format_for_people(beam.divergence_rad, 'rad')} "
             f"divergence, given at {beam.diameter_at} (formulas use 1/e)",
-            f"Limit set: {self.scenario.limits}; exposure {format_si(self.exposure_s, 's')} ({self.exposure_basis})",
+            f"Limit set: {self.scenario.limits}; exposure {format_for_people(self.exposure_s, 's')} ({self.exposure_basis})",
             f"Eye MPE: {basis['mpe']:.4g} {basis['mpe_unit']} ({basis['quantity']}) over a "
-            f"{format_si(basis['aperture_m'], 'm')} aperture; governing rule: {_rule_words(self.governing_rule)}",
+            f"{format_for_people(basis['aperture_m'], 'm')} aperture; governing rule: {_rule_words(self.governing_rule)}",
             f"Exposure at the aperture: {basis['exposure_at_aperture']:.4g} {basis['mpe_unit']}",
             f"NOHD: {_distance_text(record['nohd_m'], record['nohd_unbounded'])} (quadrature beam growth)",
             f"NOHD with optical aids: {_distance_text(record['nohd_optical_aid_m'], record['nohd_optical_aid_unbounded'])}",
             f"Diffuse-reflection hazard distance: {_distance_text(record['diffuse_hazard_distance_m'], False)} "
             f"(reflectance {self.scenario.diffuse_reflectance:g})",
             f"Skin hazard distance: {_distance_text(record['skin_hazard_distance_m'], record['skin_hazard_unbounded'])} "
-            f"({format_si(basis['skin_exposure_s'], 's')} exposure)",
+            f"({format_for_people(basis['skin_exposure_s'], 's')} exposure)",
         ]
         if record["focused_beam_nohd_m"] is not None:
             lines.append(f"NOHD beyond the lens focus: {_distance_text(record['focused_beam_nohd_m'], False)}")
@@ -474,7 +474,7 @@ def _rule_words(rule: str) -> str:
 def _distance_text(distance_m: float | None, unbounded: bool) -> str:
     if unbounded:
         return "unbounded (the beam stays above the limit at any range)"
-    return "not computed" if distance_m is None else format_si(distance_m, "m")
+    return "not computed" if distance_m is None else format_for_people(distance_m, "m")
 
 
 def _beam_dict(beam: Beam, diameter_1e: float, divergence_1e: float) -> BeamDict:

@@ -14,7 +14,7 @@ from hazards.caution import CAUTION
 from hazards.errors import InputError
 from hazards.limits.engine import Evaluation, FloatArray, evaluate_aperture_mm, evaluate_rows
 from hazards.limits.limit_set import TISSUES, LimitSet, Row, available_limit_sets, load_limit_set
-from hazards.units import format_si, parse_quantity
+from hazards.units import format_for_people, format_si, parse_quantity
 from hazards.working import StepDict, Working
 
 DEFAULT_LIMITS = "icnirp2013"
@@ -111,8 +111,9 @@ class LimitJson(LimitRecord):
 
 def short_duration_warning(duration_s: float, shortest_s: float) -> str:
     """What is said wherever a duration below the tables' first column is assessed at that column."""
-    return (f"The {format_si(duration_s, 's')} duration is shorter than the {format_si(shortest_s, 's')} where the "
-            f"limit tables start; it was assessed as {format_si(shortest_s, 's')}, whose limits the tables hold "
+    return (f"The {format_for_people(duration_s, 's')} duration is shorter than the "
+            f"{format_for_people(shortest_s, 's')} where the limit tables start; it was assessed as "
+            f"{format_for_people(shortest_s, 's')}, whose limits the tables hold "
             "down to that edge (from memory). Confirm with the LSO for few-cycle pulses.")
 
 
