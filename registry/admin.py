@@ -19,6 +19,7 @@ from simple_history.admin import SimpleHistoryAdmin
 
 from hazards.units import format_si
 from registry import selectors, services
+from registry.filters import search_problem
 from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm
 from registry.services.hazards import hazard_results_refresh
 from registry.models import (
@@ -63,7 +64,22 @@ def _run_for_each(admin_view: admin.ModelAdmin, request: HttpRequest, queryset: 
         admin_view.message_user(request, f"{done}: {succeeded}.", messages.SUCCESS)
 
 
-class RetainedAdmin(SimpleHistoryAdmin):
+class RegisterAdmin(SimpleHistoryAdmin):
+    """Base of every admin page of the register."""
+
+    def get_search_results(self, request: HttpRequest, queryset: QuerySet[Any],
+                           search_term: str) -> tuple[QuerySet[Any], bool]:
+        # Each word adds a condition over every searched column, and thousands of words make
+        # a query no database will plan; a search is bounded as in the API.
+        problem = search_problem(search_term)
+        if problem is not None:
+            self.message_user(request, _("The search %(problem)s Nothing was searched.") % {"problem": problem},
+                              messages.WARNING)
+            return queryset.none(), False
+        return super().get_search_results(request, queryset, search_term)  # type: ignore[no-any-return]
+
+
+class RetainedAdmin(RegisterAdmin):
     """Admin for records the register never deletes."""
 
     def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
@@ -71,13 +87,13 @@ class RetainedAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(ResearchGroup)
-class ResearchGroupAdmin(SimpleHistoryAdmin):
+class ResearchGroupAdmin(RegisterAdmin):
     list_display = ["name", "slug", "department"]
     search_fields = ["name", "slug", "department"]
 
 
 @admin.register(Person)
-class PersonAdmin(SimpleHistoryAdmin):
+class PersonAdmin(RegisterAdmin):
     list_display = ["__str__", "role", "research_group", "supervisor"]
     list_filter = ["role", "research_group"]
     search_fields = ["user__username", "user__first_name", "user__last_name", "user__email"]
@@ -92,7 +108,7 @@ class PersonAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(Location)
-class LocationAdmin(SimpleHistoryAdmin):
+class LocationAdmin(RegisterAdmin):
     form = LocationForm
     list_display = ["code", "building", "room", "name", "is_controlled_area", "interlock", "longest_dimension"]
     list_filter = ["site", "building", "is_controlled_area", "interlock"]
@@ -155,7 +171,7 @@ class LaserAdmin(RetainedAdmin):
 
 
 @admin.register(Emission)
-class EmissionAdmin(SimpleHistoryAdmin):
+class EmissionAdmin(RegisterAdmin):
     form = EmissionForm
     list_display = ["__str__", "label", "temporal_mode", "average_power", "pulse_energy"]
     list_filter = ["temporal_mode", "laser__labelled_class"]
@@ -196,7 +212,7 @@ class EmissionAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(HazardResult)
-class HazardResultAdmin(SimpleHistoryAdmin):
+class HazardResultAdmin(RegisterAdmin):
     """Every figure with its unit and basis; the stored floats stay in the database and the API."""
 
     # The short limit-set name keeps the list readable; the page of each result gives the title.
@@ -328,7 +344,7 @@ class EyewearMarkingInline(admin.TabularInline):
 
 
 @admin.register(EyewearMarking)
-class EyewearMarkingAdmin(SimpleHistoryAdmin):
+class EyewearMarkingAdmin(RegisterAdmin):
     form = EyewearMarkingForm
     list_display = ["eyewear", "__str__", "optical_density", "en207_conditions", "en207_scale"]
     list_filter = ["en207_scale", "eyewear__location"]

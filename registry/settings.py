@@ -62,6 +62,8 @@ INSTALLED_APPS = [
 
 MIDDLEWARE = [
     "django.middleware.security.SecurityMiddleware",
+    # Before anything reads the query string: too many parameters is a 400 on every URL.
+    "registry.middleware.QueryFieldLimitMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -163,10 +165,17 @@ REST_FRAMEWORK = {
     ],
     # Register viewsets apply their role policy (registry.permissions); this is the floor.
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    # Bodies and query values are bounded before anything parses them (registry.api.parsers,
+    # registry.filters).
+    "DEFAULT_PARSER_CLASSES": [
+        "registry.api.parsers.BoundedJSONParser",
+        "rest_framework.parsers.FormParser",
+        "rest_framework.parsers.MultiPartParser",
+    ],
     "DEFAULT_FILTER_BACKENDS": [
-        "django_filters.rest_framework.DjangoFilterBackend",
+        "registry.filters.BoundedFilterBackend",
         "rest_framework.filters.OrderingFilter",
-        "rest_framework.filters.SearchFilter",
+        "registry.filters.BoundedSearchFilter",
     ],
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",

@@ -25,6 +25,7 @@ from registry.api.etags import ETagMixin, etag_for
 from registry.models import Person
 from registry.permissions import Policy, RolePolicy, person_of
 from registry.serializers.base import HistoryEntrySerializer
+from registry.serializers.fields import FreeTextField
 
 
 class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin, GenericViewSet):  # type: ignore[type-arg]
@@ -95,7 +96,7 @@ class CreateRecordMixin:
 
 
 class RetirementSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    reason = serializers.CharField(help_text="Why the record is retired; it stays in the register with its history.")
+    reason = FreeTextField(help_text="Why the record is retired; it stays in the register with its history.")
 
 
 def retirable(output: type[BaseSerializer[Any]]) -> Any:

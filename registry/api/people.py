@@ -6,7 +6,6 @@ from typing import Any
 from drf_spectacular.utils import OpenApiResponse, extend_schema
 from rest_framework import serializers, status
 from rest_framework.decorators import action
-from rest_framework.parsers import FormParser, JSONParser, MultiPartParser
 from rest_framework.request import Request
 from rest_framework.response import Response
 
@@ -164,7 +163,6 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
     serializer_class = SOPSerializer
     input_serializer_classes = {"update": SOPUpdateSerializer, "partial_update": SOPUpdateSerializer,
                                 "approve": SOPApprovalSerializer}
-    parser_classes = [JSONParser, MultiPartParser, FormParser]
     filterset_fields = ["laser", "status"]
     ordering_fields = ["version", "approved_on", "review_due"]
     ordering = ["laser", "-version"]

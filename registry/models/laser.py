@@ -5,7 +5,7 @@ from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
 
-from registry.models.base import RetainedModel, TimestampedModel
+from registry.models.base import RetainedModel, TimestampedModel, free_text
 from registry.models.location import Location
 from registry.models.people import Person
 
@@ -71,13 +71,13 @@ class Laser(RetainedModel):
                               verbose_name=_("owner"))
     location = models.ForeignKey(Location, on_delete=models.PROTECT, null=True, blank=True,
                                  related_name="lasers", verbose_name=_("location"))
-    description = models.TextField(_("description"), blank=True)
+    description = free_text(_("description"), blank=True)
     received_on = models.DateField(_("received on"), null=True, blank=True)
     commissioned_on = models.DateField(_("commissioned on"), null=True, blank=True)
     retired_on = models.DateField(_("retired on"), null=True, blank=True)
-    review_comments = models.TextField(_("review comments"), blank=True,
+    review_comments = free_text(_("review comments"), blank=True,
                                        help_text=_("The LSO's comments when the registration was returned."))
-    status_note = models.TextField(_("status note"), blank=True,
+    status_note = free_text(_("status note"), blank=True,
                                    help_text=_("Why the last status change was made (e.g. where it was transferred)."))
 
     history = HistoricalRecords()
@@ -181,7 +181,7 @@ class Emission(TimestampedModel):
     )
     fibre_na = models.FloatField(_("fibre numerical aperture"), null=True, blank=True,
                                  help_text=_("Only for fibre-delivered beams."))
-    notes = models.TextField(_("notes"), blank=True)
+    notes = free_text(_("notes"), blank=True)
     assessment_problem = models.TextField(
         _("why the hazard is not assessed"), blank=True,
         help_text=_("Set by the register when the hazards engine cannot assess this emission (a missing beam "

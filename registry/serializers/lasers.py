@@ -20,7 +20,7 @@ from registry.models import (
 )
 from registry.permissions import editable_lasers, person_of
 from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, SelectorListSerializer, record_url
-from registry.serializers.fields import QuantityField, QuantitySerializerMixin
+from registry.serializers.fields import FreeTextField, QuantityField, QuantitySerializerMixin
 
 # How far pulse energy x repetition rate may stray from the stated average power before the
 # set is refused: data sheets round both figures. The same tolerance as hazards.assessment
@@ -213,18 +213,17 @@ class LaserUpdateSerializer(LaserSerializer):
 
 
 class LaserReviewSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    note = serializers.CharField(required=False, allow_blank=True, default="",
-                                 help_text="A note kept with the status change.")
+    note = FreeTextField(required=False, allow_blank=True, default="", help_text="A note kept with the status change.")
 
 
 class LaserSendBackSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    comments = serializers.CharField(help_text="What the owner must change before resubmitting.")
+    comments = FreeTextField(help_text="What the owner must change before resubmitting.")
 
 
 class LaserStatusSerializer(serializers.Serializer):  # type: ignore[type-arg]
     status = serializers.ChoiceField(choices=[
         LaserStatus.ACTIVE, LaserStatus.IN_STORAGE, LaserStatus.OUT_OF_SERVICE, *RETIRED_STATUSES])
-    note = serializers.CharField(required=False, allow_blank=True, default="",
-                                 help_text="Why; required when disposing of or transferring the laser.")
+    note = FreeTextField(required=False, allow_blank=True, default="",
+                         help_text="Why; required when disposing of or transferring the laser.")
     retired_on = serializers.DateField(required=False, allow_null=True, default=None,
                                        help_text="For disposed or transferred: the date (default today).")
