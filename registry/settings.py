@@ -98,6 +98,15 @@ DATABASES = {
         conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 0, minimum=0),
     ),
 }
+if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
+    # SQLite takes no row locks. A transaction that starts by reading and then writes cannot
+    # wait for another writer ("database is locked" at once, a 500); one that takes the write
+    # lock when it begins (IMMEDIATE) waits up to the timeout, then sees the other's change
+    # and answers as PostgreSQL would (412, 409).
+    DATABASES["default"].setdefault("OPTIONS", {}).update({
+        "transaction_mode": "IMMEDIATE",
+        "timeout": env_int("SQLITE_TIMEOUT_SECONDS", 20, minimum=1),
+    })
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 AUTH_PASSWORD_VALIDATORS = [

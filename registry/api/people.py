@@ -118,8 +118,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Approve (LSO); refused while training or SOP acknowledgement is missing")
     @action(detail=True, methods=["post"])
     def approve(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_approve(
                 authorization=authorization, by=self.person, **values)
         return self.respond_with(authorization)
@@ -128,9 +127,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Withdraw a request (the requester or the LSO)")
     @action(detail=True, methods=["post"])
     def withdraw(self, request: Request, pk: str | None = None) -> Response:
-        authorization = self.get_object()
-        self.check_optional_if_match(authorization)
-        with service_errors():
+        with self.workflow_step(reads_body=False) as (authorization, _):
             authorization = authorization_services.authorization_withdraw(authorization=authorization, by=self.person)
         return self.respond_with(authorization)
 
@@ -138,8 +135,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Revoke an approved authorization, with the reason (LSO)")
     @action(detail=True, methods=["post"])
     def revoke(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_revoke(
                 authorization=authorization, by=self.person, reason=values["reason"])
         return self.respond_with(authorization)
@@ -148,8 +144,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Refuse with the reason (LSO)")
     @action(detail=True, methods=["post"])
     def refuse(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_refuse(
                 authorization=authorization, by=self.person, reason=values["reason"])
         return self.respond_with(authorization)
@@ -187,8 +182,7 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
                    summary="Put a draft in force (LSO); the previous version is superseded")
     @action(detail=True, methods=["post"])
     def approve(self, request: Request, pk: str | None = None) -> Response:
-        sop, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (sop, values):
             sop = sop_services.sop_approve(sop=sop, by=self.person, **values)
         return self.respond_with(sop)
 
@@ -196,7 +190,6 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
                    summary="State that you have read and will follow this SOP version")
     @action(detail=True, methods=["post"])
     def acknowledge(self, request: Request, pk: str | None = None) -> Response:
-        sop: SOP = self.get_object()
-        with service_errors():
+        with self.workflow_step(reads_body=False) as (sop, _):
             acknowledgement = sop_services.sop_acknowledge(sop=sop, person=self.person)
         return Response(SOPAcknowledgementSerializer(acknowledgement).data, status=status.HTTP_201_CREATED)

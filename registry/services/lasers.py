@@ -10,7 +10,15 @@ from django.utils import timezone
 
 from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
 from registry.services.hazards import hazard_results_refresh
-from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
+from registry.services._common import (
+    lock_for_change,
+    lock_for_decision,
+    quantity,
+    require_role,
+    require_text,
+    require_transition,
+    validated_save,
+)
 
 S = LaserStatus
 
@@ -66,6 +74,7 @@ def laser_register(*, by: Person, asset_tag: str, **fields: Any) -> Laser:
 @transaction.atomic
 def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
+    lock_for_change(laser)
     for name, value in fields.items():
         setattr(laser, name, value)
     validated_save(laser, by=by)
@@ -76,6 +85,7 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
 
 
 def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
+    """A status change of a laser locked by lock_for_change."""
     require_transition(laser, current=laser.status, target=target, allowed=LASER_TRANSITIONS)
     laser.status = target
     laser.status_note = note
@@ -85,6 +95,7 @@ def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
 @transaction.atomic
 def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Resubmit a returned registration for review."""
+    lock_for_change(laser)
     return _move(laser, LaserStatus.PENDING_REVIEW, by=by, note=note)
 
 
@@ -92,6 +103,7 @@ def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
 def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Accept a registration after review; the laser must describe at least one emission."""
     require_role(by, Role.LSO, action="approve a laser")
+    lock_for_change(laser)
     require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
     if not laser.emissions.exists():
         raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
@@ -103,7 +115,10 @@ def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
 def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
     """Send a registration back to its owner with what must change."""
     require_role(by, Role.LSO, action="return a laser registration")
-    laser.review_comments = require_text(comments, field="review_comments", what="A comment for the owner")
+    text = require_text(comments, field="review_comments", what="A comment for the owner")
+    lock_for_change(laser)
+    require_transition(laser, current=laser.status, target=LaserStatus.RETURNED, allowed=LASER_TRANSITIONS)
+    laser.review_comments = text
     return _move(laser, LaserStatus.RETURNED, by=by)
 
 
@@ -114,6 +129,7 @@ def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -
         raise ValidationError({"status": "Use laser_retire to dispose of or transfer a laser."})
     if status in (LaserStatus.PENDING_REVIEW, LaserStatus.RETURNED):
         raise ValidationError({"status": "Review statuses are set by laser_submit, laser_approve and laser_return."})
+    lock_for_change(laser)
     return _move(laser, status, by=by, note=note)
 
 
@@ -124,9 +140,11 @@ def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
     require_role(by, Role.LSO, action="retire a laser")
     if status not in RETIRED_STATUSES:
         raise ValidationError({"status": f"A laser retires as {' or '.join(RETIRED_STATUSES)}, not '{status}'."})
+    note = require_text(reason, field="status_note", what="A reason")
+    lock_for_change(laser)
     require_transition(laser, current=laser.status, target=status, allowed=LASER_TRANSITIONS)
     laser.retired_on = retired_on or timezone.localdate()
-    return _move(laser, status, by=by, note=require_text(reason, field="status_note", what="A reason"))
+    return _move(laser, status, by=by, note=note)
 
 
 def emission_values(**fields: Any) -> dict[str, Any]:
@@ -155,7 +173,8 @@ def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
 def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
     """Add an emission and assess it. Quantities are SI numbers or strings with units
     ("532 nm", "5 mW"). An emission the engine cannot assess yet is saved without results."""
-    emission = Emission(laser=laser)
+    # The laser is locked while the emission joins it, so it cannot retire meanwhile.
+    emission = Emission(laser=lock_for_decision(laser))
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)
@@ -165,6 +184,7 @@ def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emissi
 @transaction.atomic
 def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
     """Change an emission; its hazard results are recomputed (or dropped if it cannot be assessed)."""
+    lock_for_change(emission)
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)
