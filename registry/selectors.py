@@ -11,7 +11,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from django.conf import settings
-from django.db.models import Prefetch, Q, QuerySet
+from django.db.models import Exists, OuterRef, Prefetch, Q, QuerySet
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -67,6 +67,15 @@ def emission_list() -> QuerySet[Emission]:
     return Emission.objects.select_related("laser").prefetch_related(
         Prefetch("hazard_results", queryset=HazardResult.objects.order_by("limits"), to_attr="current_results")
     )
+
+
+def emissions_not_assessed(*, laser: Laser) -> list[str]:
+    """Each of ``laser``'s emissions that has no hazard figures, with why: the engine's refusal
+    kept in ``assessment_problem``, or that no result is stored."""
+    emissions = Emission.objects.filter(laser=laser).select_related("laser").annotate(
+        assessed=Exists(HazardResult.objects.filter(emission=OuterRef("pk"))))
+    return [f"{emission}: {emission.assessment_problem or 'no hazard result is stored'}"
+            for emission in emissions if emission.assessment_problem or not emission.assessed]
 
 
 def person_list() -> QuerySet[Person]:

@@ -140,6 +140,10 @@ MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
 
 LOGIN_URL = "admin:login"
 
+# History is read, never restored: a revert would write an old version over a record past
+# every check of the services (registry.admin.RegisterAdmin refuses the POST as well).
+SIMPLE_HISTORY_REVERT_DISABLED = True
+
 # Mail: SMTP when EMAIL_HOST is set, otherwise printed to the console. A production
 # deployment without EMAIL_HOST gets a system-check warning (registry.checks).
 EMAIL_HOST = env_str("EMAIL_HOST", "")

@@ -29,6 +29,7 @@ from registry.models.laser import (
     LaserStatus,
     LaserType,
     TemporalMode,
+    class_rank,
 )
 from registry.models.location import InterlockKind, Location
 from registry.models.people import Person, ResearchGroup, Role
@@ -40,7 +41,7 @@ __all__ = [
     "FindingStatus", "FREE_TEXT_MAX_LENGTH", "OPEN_AUTHORIZATION_STATUSES", "Authorization", "AuthorizationStatus", "RecordRetainedError",
     "Eyewear", "EyewearCondition", "EyewearMarking", "HazardResult", "Incident", "IncidentKind", "IncidentStatus",
     "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
-    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode",
+    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode", "class_rank",
     "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "SOP", "SOPAcknowledgement", "SOPStatus",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",
 ]

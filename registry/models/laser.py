@@ -28,6 +28,11 @@ class LaserClass(models.TextChoices):
 HAZARDOUS_CLASSES = (LaserClass.CLASS_3B, LaserClass.CLASS_4)
 
 
+def class_rank(label: str) -> int:
+    """A class's place in LaserClass, lowest hazard first; -1 for none (an empty embedded class)."""
+    return LaserClass.values.index(label) if label else -1
+
+
 class LaserStatus(models.TextChoices):
     PENDING_REVIEW = "pending_review", _("pending review")
     RETURNED = "returned", _("returned to owner for changes")
@@ -126,6 +131,11 @@ class Laser(RetainedModel):
     def effective_class(self) -> str:
         """The class that governs the hazard of the beam itself (the embedded class when given)."""
         return self.embedded_class or self.labelled_class
+
+    @property
+    def is_hazardous(self) -> bool:
+        """Class 3B or 4, labelled or embedded: the lasers the register holds to its strictest rules."""
+        return self.labelled_class in HAZARDOUS_CLASSES or self.embedded_class in HAZARDOUS_CLASSES
 
 
 class TemporalMode(models.TextChoices):

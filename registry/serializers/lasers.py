@@ -124,15 +124,18 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
                                       help_text="Numerical aperture of a fibre delivery (dimensionless).")
     hazard_results = SelectorListSerializer(child=HazardResultSerializer(), read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
+    assessment_problem = serializers.CharField(
+        read_only=True, help_text="Why the hazards engine could not assess this emission (then hazard_results is "
+                                  "empty); empty when it was assessed.")
 
     class Meta:
         model = Emission
         fields = [
             "id", "laser", "label", "wavelength", "wavelength_max", "temporal_mode", "average_power",
             "pulse_energy", "pulse_duration", "prf", "beam_diameter", "diameter_at", "divergence", "source_size",
-            "fibre_na", "notes", "hazard_results", "created_at", "updated_at",
+            "fibre_na", "notes", "assessment_problem", "hazard_results", "created_at", "updated_at",
         ]
-        read_only_fields = ["created_at", "updated_at"]
+        read_only_fields = ["assessment_problem", "created_at", "updated_at"]
 
     def validate(self, attrs: dict[str, Any]) -> dict[str, Any]:
         merged = {**self._current_values(), **attrs}

@@ -58,9 +58,10 @@ def lock_for_change(record: ModelT, *, bookkeeping: bool = False) -> ModelT:
     return record
 
 
-def lock_for_decision(record: ModelT, *, bookkeeping: bool = False) -> ModelT:
+def lock_for_decision(record: ModelT, *, bookkeeping: bool = False, field: str | None = None) -> ModelT:
     """Lock and reload a row a step decides on without changing it (the audit a finding is
-    raised in, the laser a new emission is added to), with lock_for_change's refusals."""
+    raised in, the laser a new emission is added to), with lock_for_change's refusals;
+    ``field`` names the input a read-only refusal is about (the new emission's "laser")."""
     if not transaction.get_connection().in_atomic_block:
         raise transaction.TransactionManagementError("Rows are locked inside transaction.atomic.")
     seen = {name: getattr(record, name) for name in _state_fields(record)}
@@ -74,25 +75,26 @@ def lock_for_decision(record: ModelT, *, bookkeeping: bool = False) -> ModelT:
         if getattr(record, name) != value:
             raise StateConflict(record=record, field=name, seen=value, now=getattr(record, name))
     if not bookkeeping:
-        refuse_if_read_only(record)
+        refuse_if_read_only(record, field=field)
     return record
 
 
-def refuse_if_read_only(record: models.Model) -> None:
+def refuse_if_read_only(record: models.Model, *, field: str | None = None) -> None:
     """Retired records are read-only: the one rule, for every way in.
 
     StateError (409) naming why, when ``record`` is a retired compliance record, a disposed
     or transferred laser, or an emission, SOP or authorization of one. The services reach
     it through lock_for_change and lock_for_decision (every change of an existing record,
-    and the laser anything new is added to); the admin's forms call it in clean().
+    and the laser anything new is added to); the admin's forms (RegisterForm) call it too. The
+    refusal is keyed by ``field`` if given, else by the field that makes the record read-only.
     """
     if isinstance(record, ComplianceRecord) and record.retired_at is not None:
-        raise StateError(field="retired_at", message=(
+        raise StateError(field=field or "retired_at", message=(
             f"{record} was retired on {record.retired_at:%Y-%m-%d}; a retired record is read-only."))
     laser = record if isinstance(record, Laser) else getattr(record, "laser", None) if isinstance(
         record, LASER_PARTS) else None
     if laser is not None and laser.status in RETIRED_STATUSES:
-        raise StateError(field="status" if laser is record else "laser", message=(
+        raise StateError(field=field or ("status" if laser is record else "laser"), message=(
             f"{laser.asset_tag} is {laser.get_status_display()}: a disposed or transferred laser and its "
             "emissions, SOPs and authorizations are read-only."))
 

@@ -33,7 +33,7 @@ AUTHORIZATION_TRANSITIONS: dict[str, frozenset[str]] = {
 @transaction.atomic
 def authorization_request(*, person: Person, laser: Laser, by: Person, conditions: str = "") -> Authorization:
     """Ask for ``person`` to be authorized on ``laser`` (an active laser)."""
-    lock_for_decision(laser)
+    lock_for_decision(laser, field="laser")
     if laser.status != LaserStatus.ACTIVE:
         raise ValidationError({"laser": f"{laser.asset_tag} is {laser.get_status_display()}; "
                                         "authorizations are requested for active lasers only."})

@@ -8,7 +8,9 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.utils import timezone
 
-from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role
+from registry.models import RETIRED_STATUSES, Emission, Laser, LaserStatus, Person, Role, class_rank
+from registry.selectors import emissions_not_assessed
+from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import (
     lock_for_change,
@@ -34,6 +36,9 @@ LASER_TRANSITIONS: dict[str, frozenset[str]] = {
     S.DISPOSED: frozenset(),
     S.TRANSFERRED: frozenset(),
 }
+
+# Statuses a laser reaches only once an LSO has approved its registration.
+APPROVED_STATUSES = frozenset({S.ACTIVE, S.IN_STORAGE, S.OUT_OF_SERVICE})
 
 # Fields a laser's editors may change directly; status, review comments and retirement
 # dates change only through the workflow services below.
@@ -73,15 +78,33 @@ def laser_register(*, by: Person, asset_tag: str, **fields: Any) -> Laser:
 
 @transaction.atomic
 def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
+    """Change LASER_EDITABLE_FIELDS. An approved laser whose class anyone but the LSO lowers
+    goes back to pending review: the approval was given for the class it had."""
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
     lock_for_change(laser)
+    before = (laser.labelled_class, laser.effective_class)
     for name, value in fields.items():
         setattr(laser, name, value)
+    if not by.is_lso and laser.status in APPROVED_STATUSES and _lowered(before, laser):
+        laser.status = LaserStatus.PENDING_REVIEW
+        laser.status_note = (f"Back to review: {by} lowered the class from {_classes(*before)} to "
+                             f"{_classes(laser.labelled_class, laser.effective_class)}; the LSO confirms a lower "
+                             "class before the laser is in service again.")
     validated_save(laser, by=by)
     if {"labelled_class", "embedded_class"} & set(fields):
         # The class enters the assessment (its plausibility check), so the results follow it.
         hazard_results_refresh(emissions=laser.emissions.select_related("laser"), by=by)
     return laser
+
+
+def _lowered(before: tuple[str, str], laser: Laser) -> bool:
+    labelled, effective = before
+    return (class_rank(laser.labelled_class) < class_rank(labelled)
+            or class_rank(laser.effective_class) < class_rank(effective))
+
+
+def _classes(labelled: str, effective: str) -> str:
+    return labelled if labelled == effective else f"{labelled} (embedded {effective})"
 
 
 def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
@@ -101,12 +124,20 @@ def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
 
 @transaction.atomic
 def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
-    """Accept a registration after review; the laser must describe at least one emission."""
+    """Accept a registration after review. The laser must describe at least one emission, and
+    for a class 3B or 4 laser (labelled or embedded) the engine must have assessed every one:
+    the review rests on those figures."""
     require_role(by, Role.LSO, action="approve a laser")
     lock_for_change(laser)
     require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
-    if not laser.emissions.exists():
+    emissions = list(laser.emissions.select_related("laser"))
+    if not emissions:
         raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
+    if laser.is_hazardous:
+        hazard_results_refresh(emissions=emissions, by=by, only_stale=True)
+        unassessed = emissions_not_assessed(laser=laser)
+        if unassessed:
+            raise PrerequisiteError(field="emissions", missing=[f"a hazard assessment of {item}" for item in unassessed])
     laser.review_comments = ""
     return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
 
@@ -174,7 +205,7 @@ def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emissi
     """Add an emission and assess it. Quantities are SI numbers or strings with units
     ("532 nm", "5 mW"). An emission the engine cannot assess yet is saved without results."""
     # The laser is locked while the emission joins it, so it cannot retire meanwhile.
-    emission = Emission(laser=lock_for_decision(laser))
+    emission = Emission(laser=lock_for_decision(laser, field="laser"))
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)

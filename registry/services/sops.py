@@ -35,7 +35,7 @@ SOP_EDITABLE_FIELDS = frozenset({"title", "version", "review_due", "document"})
 def sop_create(*, laser: Laser, title: str, by: Person, summary: str = "", document: File | None = None) -> SOP:
     """A draft of the next version of ``laser``'s SOP."""
     # The laser is locked, so two drafts started at once cannot take the same version number.
-    lock_for_decision(laser)
+    lock_for_decision(laser, field="laser")
     latest = SOP.objects.filter(laser=laser).aggregate(latest=Max("version"))["latest"] or 0
     sop = SOP(laser=laser, title=title, version=latest + 1, summary=summary)
     if document is not None:
