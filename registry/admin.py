@@ -2,7 +2,9 @@
 
 Deletion is switched off for lasers and compliance records (they refuse it anyway);
 retire them through the services. Status fields are read-only here so that status
-changes go through the workflow services and their checks.
+changes go through the workflow services and their checks. Every form is a RegisterForm
+(constraints and the read-only rule checked on the form); a read-only record opens as a
+page to read; history can be read, never reverted.
 """
 from __future__ import annotations
 
@@ -19,7 +21,8 @@ from simple_history.admin import SimpleHistoryAdmin
 
 from hazards.units import format_si
 from registry import selectors, services
-from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm
+from registry.filters import search_problem
+from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm, RegisterForm
 from registry.services.hazards import hazard_results_refresh
 from registry.models import (
     SOP,
@@ -64,7 +67,47 @@ def _run_for_each(admin_view: admin.ModelAdmin, request: HttpRequest, queryset: 
         admin_view.message_user(request, f"{done}: {succeeded}.", messages.SUCCESS)
 
 
-class RetainedAdmin(SimpleHistoryAdmin):
+def _read_only(record: Any) -> bool:
+    try:
+        services.refuse_if_read_only(record)
+    except ValidationError:
+        return True
+    return False
+
+
+class RegisterAdmin(SimpleHistoryAdmin):
+    """Base of every admin page of the register."""
+
+    form = RegisterForm
+
+    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        # A retired record, and what belongs to a retired laser, is shown to read, not to change.
+        if obj is not None and _read_only(obj):
+            return False
+        return super().has_change_permission(request, obj)  # type: ignore[no-any-return]
+
+    def history_form_view(self, request: HttpRequest, object_id: str, version_id: str,
+                          extra_context: dict[str, Any] | None = None) -> Any:
+        # Revert is off: SIMPLE_HISTORY_REVERT_DISABLED hides its button, but a POST to this
+        # page would still save the old version over the record, past every service's checks
+        # (a disposed laser back in service, a revoked authorization approved again).
+        if request.method == "POST":
+            raise PermissionDenied("Earlier versions can be read here, not restored.")
+        return super().history_form_view(request, object_id, version_id, extra_context)
+
+    def get_search_results(self, request: HttpRequest, queryset: QuerySet[Any],
+                           search_term: str) -> tuple[QuerySet[Any], bool]:
+        # Each word adds a condition over every searched column, and thousands of words make
+        # a query no database will plan; a search is bounded as in the API.
+        problem = search_problem(search_term)
+        if problem is not None:
+            self.message_user(request, _("The search %(problem)s Nothing was searched.") % {"problem": problem},
+                              messages.WARNING)
+            return queryset.none(), False
+        return super().get_search_results(request, queryset, search_term)  # type: ignore[no-any-return]
+
+
+class RetainedAdmin(RegisterAdmin):
     """Admin for records the register never deletes."""
 
     def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
@@ -72,13 +115,13 @@ class RetainedAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(ResearchGroup)
-class ResearchGroupAdmin(SimpleHistoryAdmin):
+class ResearchGroupAdmin(RegisterAdmin):
     list_display = ["name", "slug", "department"]
     search_fields = ["name", "slug", "department"]
 
 
 @admin.register(Person)
-class PersonAdmin(SimpleHistoryAdmin):
+class PersonAdmin(RegisterAdmin):
     list_display = ["__str__", "role", "research_group", "supervisor"]
     list_filter = ["role", "research_group"]
     search_fields = ["user__username", "user__first_name", "user__last_name", "user__email"]
@@ -93,7 +136,7 @@ class PersonAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(Location)
-class LocationAdmin(SimpleHistoryAdmin):
+class LocationAdmin(RegisterAdmin):
     form = LocationForm
     list_display = ["code", "building", "room", "name", "is_controlled_area", "interlock", "longest_dimension"]
     list_filter = ["site", "building", "is_controlled_area", "interlock"]
@@ -112,7 +155,10 @@ class EmissionInline(admin.StackedInline):
         "label", ("wavelength_m", "wavelength_max_m"), "temporal_mode",
         ("average_power_W", "pulse_energy_J"), ("pulse_duration_s", "prf_Hz"),
         ("beam_diameter_m", "diameter_definition"), ("divergence_rad", "source_size_rad"), "fibre_na", "notes",
+        "assessment_problem",
     ]
+    # Set by the register when the engine cannot assess the emission.
+    readonly_fields = ["assessment_problem"]
     show_change_link = True
 
 
@@ -156,14 +202,14 @@ class LaserAdmin(RetainedAdmin):
 
 
 @admin.register(Emission)
-class EmissionAdmin(SimpleHistoryAdmin):
+class EmissionAdmin(RegisterAdmin):
     form = EmissionForm
     list_display = ["__str__", "label", "temporal_mode", "average_power", "pulse_energy"]
     list_filter = ["temporal_mode", "laser__labelled_class"]
     search_fields = ["laser__asset_tag", "label"]
     list_select_related = ["laser"]
     autocomplete_fields = ["laser"]
-    readonly_fields = ["hazard_summary"]
+    readonly_fields = ["hazard_summary", "assessment_problem"]
 
     @admin.display(description=_("average power"), ordering="average_power_W")
     def average_power(self, emission: Emission) -> str:
@@ -180,8 +226,8 @@ class EmissionAdmin(SimpleHistoryAdmin):
             return _("Computed when the emission is saved.")
         results = emission.hazard_results.all()
         if not results:
-            return _("Not assessed: the engine needs the beam diameter and divergence, and a consistent set "
-                     "of pulse parameters.")
+            return _("Not assessed; why is shown below.") if emission.assessment_problem else _(
+                "Not assessed yet: the results are computed when the emission is saved.")
         return format_html_join(
             "", "<p>{}: NOHD {}, {}, EN 207 {}, eye MPE {} (engine {})</p>",
             ((hazard_figures.limit_set_title(result.limits),
@@ -197,7 +243,7 @@ class EmissionAdmin(SimpleHistoryAdmin):
 
 
 @admin.register(HazardResult)
-class HazardResultAdmin(SimpleHistoryAdmin):
+class HazardResultAdmin(RegisterAdmin):
     """Every figure with its unit and basis; the stored floats stay in the database and the API."""
 
     # The short limit-set name keeps the list readable; the page of each result gives the title.
@@ -295,6 +341,7 @@ class AuthorizationAdmin(RetainedAdmin):
 
 class SOPAcknowledgementInline(admin.TabularInline):
     model = SOPAcknowledgement
+    form = RegisterForm
     extra = 0
     fields = ["person", "acknowledged_at"]
     readonly_fields = ["person", "acknowledged_at"]
@@ -329,7 +376,7 @@ class EyewearMarkingInline(admin.TabularInline):
 
 
 @admin.register(EyewearMarking)
-class EyewearMarkingAdmin(SimpleHistoryAdmin):
+class EyewearMarkingAdmin(RegisterAdmin):
     form = EyewearMarkingForm
     list_display = ["eyewear", "__str__", "optical_density", "en207_conditions", "en207_scale"]
     list_filter = ["en207_scale", "eyewear__location"]
@@ -352,6 +399,7 @@ class EyewearAdmin(RetainedAdmin):
 
 class AuditChecklistItemInline(admin.TabularInline):
     model = AuditChecklistItem
+    form = RegisterForm
     extra = 0
     fields = ["position", "question", "answer", "comment"]
     can_delete = False
@@ -359,6 +407,7 @@ class AuditChecklistItemInline(admin.TabularInline):
 
 class FindingInline(admin.TabularInline):
     model = Finding
+    form = RegisterForm
     extra = 0
     fields = ["severity", "description", "owner", "due_on", "status", "closed_on"]
     readonly_fields = ["status", "closed_on"]

@@ -3,19 +3,31 @@
 Quantity filters read their value like every other physical input: a number in the
 documented SI unit or a string with units (``?wavelength_min=500 nm``); a bad value is a
 400 naming the query parameter.
+
+Every query value a list reads is bounded before it is parsed (BoundedFilterBackend), and a
+search is bounded in words as well (``search_problem``, which the admin's search uses too):
+each word of a search adds a condition over every searched column, and a few thousand words
+make a query no database will plan.
 """
 from __future__ import annotations
 
+from collections.abc import Collection
 from typing import Any
 
 import django_filters
 from django import forms
 from django.db.models import Exists, OuterRef, Q, QuerySet
+from django.utils.text import smart_split
+from django_filters.rest_framework import DjangoFilterBackend
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import extend_schema_field
+from rest_framework.exceptions import ValidationError
+from rest_framework.filters import SearchFilter
+from rest_framework.request import Request
+from rest_framework.views import APIView
 
 from hazards.errors import InputError
-from hazards.units import parse_quantity
+from hazards.units import MAX_TEXT_LENGTH, parse_quantity
 from registry.models import (
     Authorization,
     Emission,
@@ -30,6 +42,52 @@ from registry.models import (
     Person,
     TrainingRecord,
 )
+
+
+# The most words a search looks for; a phrase in quotes is one word.
+MAX_SEARCH_WORDS = 10
+
+
+def search_problem(text: str, *, words: Collection[str] | None = None) -> str | None:
+    """Why ``text`` is refused as a search (too long, or too many words); None when it is fine.
+
+    ``words`` are the terms the caller's search splits ``text`` into (DRF also splits at
+    commas); by default, Django's smart_split, as the admin does.
+    """
+    if len(text) > MAX_TEXT_LENGTH:
+        return f"is {len(text)} characters long; a search is at most {MAX_TEXT_LENGTH}."
+    count = len(words if words is not None else list(smart_split(text)))
+    if count > MAX_SEARCH_WORDS:
+        return f"has {count} words; a search looks for at most {MAX_SEARCH_WORDS}."
+    return None
+
+
+class BoundedFilterBackend(DjangoFilterBackend):
+    """django-filter's backend, refusing any query value longer than a typed value can be.
+
+    A filter value is an id, a date, a choice, a name or a quantity, all within
+    hazards.units.MAX_TEXT_LENGTH characters; so are ``search`` and ``ordering``. A longer one
+    is a 400 naming the parameter, before any of it is parsed.
+    """
+
+    def filter_queryset(self, request: Request, queryset: QuerySet[Any], view: APIView) -> QuerySet[Any]:
+        params = request.query_params
+        too_long = {name: [f"is {len(value)} characters long; a query value is at most {MAX_TEXT_LENGTH}."]
+                    for name in params for value in params.getlist(name) if len(value) > MAX_TEXT_LENGTH}
+        if too_long:
+            raise ValidationError(too_long)
+        return super().filter_queryset(request, queryset, view)
+
+
+class BoundedSearchFilter(SearchFilter):
+    """DRF's search, refusing a search of too many words (search_problem) with a 400."""
+
+    def get_search_terms(self, request: Request) -> list[str]:
+        terms: list[str] = super().get_search_terms(request)
+        problem = search_problem(request.query_params.get(self.search_param, ""), words=terms)
+        if problem is not None:
+            raise ValidationError({self.search_param: [problem]})
+        return terms
 
 
 class QuantityFormField(forms.Field):

@@ -2,7 +2,8 @@
 
 Every quantity field reads a number in its SI unit or a string with its own unit through
 hazards.units.parse_quantity, stores the SI float, and shows a stored value back in a unit
-a person reads at a glance.
+a person reads at a glance. Every admin form is a RegisterForm, which refuses on the form
+what the database or the services would refuse.
 """
 from __future__ import annotations
 
@@ -19,8 +20,6 @@ from hazards.assessment import beam_fields
 from hazards.errors import InputError
 from hazards.units import format_for_input, parse_quantity
 from registry.models import (
-    MAX_WAVELENGTH_M,
-    MIN_WAVELENGTH_M,
     CourseKind,
     Emission,
     EyewearMarking,
@@ -34,10 +33,37 @@ from registry.models import (
     ResearchGroup,
     Role,
 )
+from registry.services import refuse_if_read_only
 
 # Two readings of one value closer than this are the same value: formatting for display
 # and parsing back may move the last bit or two of a float, never more.
 _SAME_VALUE_RELATIVE = 1e-12
+
+
+class RegisterForm(forms.ModelForm):
+    """Base of the admin's forms: a change the register would refuse is a form error, not a 500.
+
+    - Every named constraint is checked. Django checks only those whose fields are all on the
+      form, so one involving a read-only field (a status) was left to the database, whose
+      refusal is a 500; those fields have their values on the instance, so they are checked.
+    - A read-only record (registry.services.refuse_if_read_only: retired, or a disposed or
+      transferred laser with its emissions, SOPs and authorizations) takes no change, and
+      nothing new is added to a retired laser.
+    """
+
+    def _post_clean(self) -> None:
+        super()._post_clean()
+        reported = {message for messages in self.errors.values() for message in messages}
+        try:
+            self.instance.validate_constraints(exclude={name for name in self.errors if name in self.fields})
+        except ValidationError as error:
+            for message in error.messages:
+                if message not in reported:
+                    self.add_error(None, message)
+        try:
+            refuse_if_read_only(self.instance)
+        except ValidationError as error:
+            self.add_error(None, error.messages)
 
 
 class QuantityField(forms.Field):
@@ -99,7 +125,7 @@ def _beam(engine_name: str, name: str | Promise, help_text: str | Promise, *, re
                          help_text=help_text)
 
 
-class EmissionForm(forms.ModelForm):
+class EmissionForm(RegisterForm):
     """Beam parameters as on the data sheet, for the emission page and the inline on the laser.
 
     The rules that tie the values together run in Emission.clean(), which the form calls.
@@ -127,7 +153,7 @@ class EmissionForm(forms.ModelForm):
         fields = "__all__"
 
 
-class LocationForm(forms.ModelForm):
+class LocationForm(RegisterForm):
     longest_dimension_m = _length(_("longest room dimension"), _("e.g. '8.5 m'; a bare number is in metres."),
                                   minimum=0.0, inclusive_minimum=False)
 
@@ -136,7 +162,7 @@ class LocationForm(forms.ModelForm):
         fields = "__all__"
 
 
-class EyewearMarkingForm(forms.ModelForm):
+class EyewearMarkingForm(RegisterForm):
     wavelength_min_m = _beam("wavelength", _("from wavelength"), _("e.g. '190 nm'; a bare number is in metres."),
                              required=True, display_unit="nm")
     wavelength_max_m = _beam("wavelength", _("to wavelength"), _("e.g. '532 nm'; a bare number is in metres."),

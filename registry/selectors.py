@@ -73,6 +73,15 @@ def emission_list() -> QuerySet[Emission]:
     )
 
 
+def emissions_not_assessed(*, laser: Laser) -> list[str]:
+    """Each of ``laser``'s emissions that has no hazard figures, with why: the engine's refusal
+    kept in ``assessment_problem``, or that no result is stored."""
+    emissions = Emission.objects.filter(laser=laser).select_related("laser").annotate(
+        assessed=Exists(HazardResult.objects.filter(emission=OuterRef("pk"))))
+    return [f"{emission}: {emission.assessment_problem or 'no hazard result is stored'}"
+            for emission in emissions if emission.assessment_problem or not emission.assessed]
+
+
 def person_list() -> QuerySet[Person]:
     return Person.objects.select_related("user", "research_group", "supervisor__user")
 

@@ -62,6 +62,8 @@ INSTALLED_APPS = [
 
 MIDDLEWARE = [
     "django.middleware.security.SecurityMiddleware",
+    # Before anything reads the query string: too many parameters is a 400 on every URL.
+    "registry.middleware.QueryFieldLimitMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -97,6 +99,15 @@ DATABASES = {
         conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 0, minimum=0),
     ),
 }
+if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
+    # SQLite takes no row locks. A transaction that starts by reading and then writes cannot
+    # wait for another writer ("database is locked" at once, a 500); one that takes the write
+    # lock when it begins (IMMEDIATE) waits up to the timeout, then sees the other's change
+    # and answers as PostgreSQL would (412, 409).
+    DATABASES["default"].setdefault("OPTIONS", {}).update({
+        "transaction_mode": "IMMEDIATE",
+        "timeout": env_int("SQLITE_TIMEOUT_SECONDS", 20, minimum=1),
+    })
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 AUTH_PASSWORD_VALIDATORS = [
@@ -137,6 +148,10 @@ LOGIN_URL = "login"
 LOGIN_REDIRECT_URL = "home"
 LOGOUT_REDIRECT_URL = "login"
 
+# History is read, never restored: a revert would write an old version over a record past
+# every check of the services (registry.admin.RegisterAdmin refuses the POST as well).
+SIMPLE_HISTORY_REVERT_DISABLED = True
+
 # Mail: SMTP when EMAIL_HOST is set, otherwise printed to the console. A production
 # deployment without EMAIL_HOST gets a system-check warning (registry.checks).
 EMAIL_HOST = env_str("EMAIL_HOST", "")
@@ -171,10 +186,17 @@ REST_FRAMEWORK = {
     ],
     # Register viewsets apply their role policy (registry.permissions); this is the floor.
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    # Bodies and query values are bounded before anything parses them (registry.api.parsers,
+    # registry.filters).
+    "DEFAULT_PARSER_CLASSES": [
+        "registry.api.parsers.BoundedJSONParser",
+        "rest_framework.parsers.FormParser",
+        "rest_framework.parsers.MultiPartParser",
+    ],
     "DEFAULT_FILTER_BACKENDS": [
-        "django_filters.rest_framework.DjangoFilterBackend",
+        "registry.filters.BoundedFilterBackend",
         "rest_framework.filters.OrderingFilter",
-        "rest_framework.filters.SearchFilter",
+        "registry.filters.BoundedSearchFilter",
     ],
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",

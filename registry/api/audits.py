@@ -75,8 +75,7 @@ class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Re
                    summary="Start a planned audit")
     @action(detail=True, methods=["post"])
     def start(self, request: Request, pk: str | None = None) -> Response:
-        audit, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (audit, values):
             audit = audit_services.audit_start(audit=audit, by=self.person, **values)
         return self.respond_with(audit)
 
@@ -84,9 +83,8 @@ class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Re
                    summary="Answer one checklist item of an audit in progress")
     @action(detail=True, methods=["post"])
     def answer(self, request: Request, pk: str | None = None) -> Response:
-        audit, values = self.step_input()
-        item = get_object_or_404(audit.checklist.all(), position=values.pop("position"))
-        with service_errors():
+        with self.workflow_step() as (audit, values):
+            item = get_object_or_404(audit.checklist.all(), position=values.pop("position"))
             item = audit_services.audit_answer(item=item, by=self.person, **values)
         return Response(ChecklistItemSerializer(item).data)
 
@@ -94,8 +92,7 @@ class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Re
                    summary="Raise a finding during an audit in progress")
     @action(detail=True, methods=["post"], url_path="findings")
     def raise_finding(self, request: Request, pk: str | None = None) -> Response:
-        audit, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (audit, values):
             finding = audit_services.finding_raise(audit=audit, by=self.person, **values)
         return Response(FindingSerializer(finding).data, status=status.HTTP_201_CREATED)
 
@@ -103,8 +100,7 @@ class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Re
                    summary="Sign the audit off once every checklist item is answered (LSO)")
     @action(detail=True, methods=["post"], url_path="sign-off")
     def sign_off(self, request: Request, pk: str | None = None) -> Response:
-        audit, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (audit, values):
             audit = audit_services.audit_sign_off(audit=audit, by=self.person, **values)
         return self.respond_with(audit)
 
@@ -134,8 +130,7 @@ class FindingViewSet(UpdateWithETagMixin, RetireRecordMixin, RegisterViewSet):
                    summary="Close a finding with the evidence of correction")
     @action(detail=True, methods=["post"])
     def close(self, request: Request, pk: str | None = None) -> Response:
-        finding, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (finding, values):
             finding = audit_services.finding_close(finding=finding, by=self.person, **values)
         return self.respond_with(finding)
 
@@ -169,9 +164,7 @@ class IncidentViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin,
                    summary="Open the investigation of a reported incident (LSO)")
     @action(detail=True, methods=["post"])
     def investigate(self, request: Request, pk: str | None = None) -> Response:
-        incident = self.get_object()
-        self.check_optional_if_match(incident)
-        with service_errors():
+        with self.workflow_step(reads_body=False) as (incident, _):
             incident = incident_services.incident_investigate(incident=incident, by=self.person)
         return self.respond_with(incident)
 
@@ -179,7 +172,6 @@ class IncidentViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin,
                    summary="Close an incident with its follow-up (LSO)")
     @action(detail=True, methods=["post"])
     def close(self, request: Request, pk: str | None = None) -> Response:
-        incident, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (incident, values):
             incident = incident_services.incident_close(incident=incident, by=self.person, **values)
         return self.respond_with(incident)

@@ -12,6 +12,7 @@ from rest_framework.request import Request
 from rest_framework.throttling import ScopedRateThrottle, SimpleRateThrottle
 from rest_framework.views import APIView
 
+from registry.api.parsers import API_PARSERS
 from registry.schema import error_response
 
 
@@ -39,6 +40,8 @@ class TokenSignInView(ObtainAuthToken):
 
     throttle_classes = [ScopedRateThrottle, SignInUsernameThrottle]
     throttle_scope = "token-sign-in"
+    # ObtainAuthToken names DRF's own parsers; anonymous callers get the same bounds as the rest.
+    parser_classes = API_PARSERS
 
     @extend_schema(
         summary="Sign in and get an API token",

@@ -7,8 +7,11 @@ ever deleted through the API.
 """
 from __future__ import annotations
 
+from collections.abc import Iterator
+from contextlib import contextmanager
 from typing import Any, ClassVar
 
+from django.db import transaction
 from django.db.models import Model, QuerySet
 from drf_spectacular.utils import extend_schema, extend_schema_view
 from rest_framework import mixins, serializers, status
@@ -25,6 +28,7 @@ from registry.api.etags import ETagMixin, etag_for
 from registry.models import Person
 from registry.permissions import Policy, RolePolicy, person_of
 from registry.serializers.base import HistoryEntrySerializer
+from registry.serializers.fields import FreeTextField
 
 
 class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin, GenericViewSet):  # type: ignore[type-arg]
@@ -63,13 +67,25 @@ class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixi
         response["ETag"] = etag_for(data)
         return response
 
-    def step_input(self) -> tuple[Any, dict[str, Any]]:
-        """For a workflow action: the record (If-Match honoured if sent) and the validated body."""
-        record = self.get_object()
-        self.check_optional_if_match(record)
-        serializer = self.get_serializer(data=self.request.data)
-        serializer.is_valid(raise_exception=True)
-        return record, dict(serializer.validated_data)
+    @contextmanager
+    def workflow_step(self, *, reads_body: bool = True) -> Iterator[tuple[Any, dict[str, Any]]]:
+        """For a workflow action: (the record, the validated body), in one transaction.
+
+        The record's row is locked (get_object_for_update) and an If-Match sent with the step
+        is checked against it there, so two steps on one record run one after the other and
+        the second decides on what the first left: the loser of a race gets 409 or 412.
+        Refusals of the service called inside become the API's answers (service_errors).
+        """
+        with transaction.atomic():
+            record = self.get_object_for_update()
+            self.check_optional_if_match(record)
+            values: dict[str, Any] = {}
+            if reads_body:
+                serializer = self.get_serializer(data=self.request.data)
+                serializer.is_valid(raise_exception=True)
+                values = dict(serializer.validated_data)
+            with service_errors():
+                yield record, values
 
     @extend_schema(responses=HistoryEntrySerializer(many=True), filters=False,
                    summary="Change history of the record (newest first)")
@@ -95,7 +111,7 @@ class CreateRecordMixin:
 
 
 class RetirementSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    reason = serializers.CharField(help_text="Why the record is retired; it stays in the register with its history.")
+    reason = FreeTextField(help_text="Why the record is retired; it stays in the register with its history.")
 
 
 def retirable(output: type[BaseSerializer[Any]]) -> Any:
@@ -110,7 +126,6 @@ class RetireRecordMixin:
 
     @action(detail=True, methods=["post"])
     def retire(self, request: Request, pk: str | None = None) -> Response:
-        record, values = self.step_input()  # type: ignore[attr-defined]
-        with service_errors():
+        with self.workflow_step() as (record, values):  # type: ignore[attr-defined]
             record = services.record_retire(record=record, by=self.person, reason=values["reason"])  # type: ignore[attr-defined]
         return self.respond_with(record)  # type: ignore[attr-defined,no-any-return]

@@ -12,6 +12,7 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from typing import Any
 
+from django.core.exceptions import RequestDataTooBig, TooManyFieldsSent, TooManyFilesSent
 from django.core.exceptions import ValidationError as DjangoValidationError
 from django.db import IntegrityError
 from rest_framework import status
@@ -25,6 +26,10 @@ from registry.services.errors import PrerequisiteError, StateError, TransitionEr
 # Refusals of a well-formed request because of the record's state: 409, not 400.
 _STATE_REFUSALS = (TransitionError, PrerequisiteError, StateError)
 
+# Django's refusals of a form or multipart body beyond its bounds (DATA_UPLOAD_MAX_*). DRF
+# leaves them to Django, whose answer is an HTML page (with DEBUG on, its error page).
+_OVERSIZED_BODY = (RequestDataTooBig, TooManyFieldsSent, TooManyFilesSent)
+
 
 def api_exception_handler(error: Exception, context: dict[str, Any]) -> Response | None:
     if isinstance(error, DjangoValidationError):
@@ -32,6 +37,8 @@ def api_exception_handler(error: Exception, context: dict[str, Any]) -> Response
         body = ValidationError(messages if isinstance(messages, dict) else {"non_field_errors": messages}).detail
         refused_by_state = isinstance(error, _STATE_REFUSALS)
         return Response(body, status=status.HTTP_409_CONFLICT if refused_by_state else status.HTTP_400_BAD_REQUEST)
+    if isinstance(error, _OVERSIZED_BODY):
+        return Response({"detail": str(error)}, status=status.HTTP_400_BAD_REQUEST)
     if isinstance(error, IntegrityError):
         # full_clean() runs every constraint first; this is the rare race between two writers.
         return Response({"detail": "The change conflicts with another record saved at the same time; try again."},

@@ -1,10 +1,12 @@
 """No lost updates: representations carry an ETag, and updates must send it back.
 
 The ETag is a hash of the JSON representation the caller was given, so any change a
-client could see (the record, its emissions, its hazard results) changes it. An update
-locks the row, recomputes the tag from the current state and compares it with
-If-Match before the service writes anything; two people editing the same record from
-the same copy therefore cannot overwrite each other: the second gets 412.
+client could see (the record, its emissions, its hazard results) changes it. An update,
+like a workflow step, locks the row (registry.services lock_for_decision, the services'
+own lock, so rows are always locked in the same order), recomputes the tag from the
+current state and compares it with If-Match before the service writes anything; two
+people editing the same record from the same copy therefore cannot overwrite each other:
+the second gets 412.
 """
 from __future__ import annotations
 
@@ -22,6 +24,9 @@ from rest_framework.request import Request
 from rest_framework.response import Response
 from rest_framework.serializers import BaseSerializer, Serializer
 from rest_framework.utils.encoders import JSONEncoder
+
+from registry.api.errors import service_errors
+from registry.services import lock_for_decision
 
 
 class PreconditionFailed(APIException):
@@ -60,8 +65,9 @@ def check_if_match(request: Request, current_etag: str, *, required: bool) -> No
 class ETagMixin:
     """For register viewsets: an ETag on every retrieve answer, and the helpers updates use.
 
-    Workflow actions may call ``check_optional_if_match(instance)``: an If-Match sent with
-    a workflow step is honoured, but not required (the service refuses illegal steps).
+    Workflow actions (RegisterViewSet.workflow_step) call ``check_optional_if_match`` on the
+    locked record: an If-Match sent with a step is honoured, but not required (the service
+    refuses illegal steps).
     """
 
     def retrieve(self, request: Request, *args: Any, **kwargs: Any) -> Response:
@@ -72,16 +78,18 @@ class ETagMixin:
     def get_object_for_update(self) -> Model:
         """The object as get_object() finds it, its row locked until the transaction ends.
 
-        ``of=("self",)``: PostgreSQL cannot lock the nullable side of the outer joins that
-        select_related makes; SQLite ignores the lock (it serialises writers anyway).
-        List filters are not applied: they describe lists, and some add DISTINCT, which
-        cannot be combined with FOR UPDATE.
+        Locked by the services' lock_for_decision: the laser's row first for a record that
+        belongs to a laser, as every service does, and refused (409) when it is read-only.
+        SQLite takes no row locks; its writers wait for each other's transactions
+        (``transaction_mode`` IMMEDIATE in the settings). List filters are not applied: they
+        describe lists.
         """
-        queryset = self.get_queryset().select_for_update(of=("self",))  # type: ignore[attr-defined]
         lookup_url_kwarg = self.lookup_url_kwarg or self.lookup_field  # type: ignore[attr-defined]
-        instance = get_object_or_404(queryset, **{self.lookup_field: self.kwargs[lookup_url_kwarg]})  # type: ignore[attr-defined]
+        instance = get_object_or_404(self.get_queryset(),  # type: ignore[attr-defined]
+                                     **{self.lookup_field: self.kwargs[lookup_url_kwarg]})  # type: ignore[attr-defined]
         self.check_object_permissions(self.request, instance)  # type: ignore[attr-defined]
-        return instance
+        with service_errors():
+            return lock_for_decision(instance)
 
     def etag_of(self, instance: Model) -> str:
         return etag_for(self.representation_of(instance))

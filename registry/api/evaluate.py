@@ -6,13 +6,13 @@ from typing import Any
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiResponse, extend_schema
 from rest_framework import serializers
-from rest_framework.parsers import JSONParser
 from rest_framework.request import Request
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.assessment import assess, parse_assessment_request
 from hazards.errors import InputError
+from registry.api.parsers import BoundedJSONParser
 from registry.permissions import HasRole
 from registry.serializers.evaluate import EvaluationRequestSerializer
 
@@ -26,7 +26,7 @@ class EvaluateView(APIView):
     """
 
     permission_classes = [HasRole]
-    parser_classes = [JSONParser]
+    parser_classes = [BoundedJSONParser]
 
     @extend_schema(
         request=EvaluationRequestSerializer,

@@ -69,8 +69,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
                    summary="Submit a returned registration for review again")
     @action(detail=True, methods=["post"])
     def submit(self, request: Request, pk: str | None = None) -> Response:
-        laser, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (laser, values):
             laser = laser_services.laser_submit(laser=laser, by=self.person, note=values["note"])
         return self.respond_with(laser)
 
@@ -78,8 +77,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
                    summary="Approve a registration after review (LSO)")
     @action(detail=True, methods=["post"])
     def approve(self, request: Request, pk: str | None = None) -> Response:
-        laser, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (laser, values):
             laser = laser_services.laser_approve(laser=laser, by=self.person, note=values["note"])
         return self.respond_with(laser)
 
@@ -87,8 +85,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
                    summary="Return a registration to its owner with comments (LSO)")
     @action(detail=True, methods=["post"], url_path="return")
     def send_back(self, request: Request, pk: str | None = None) -> Response:
-        laser, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (laser, values):
             laser = laser_services.laser_return(laser=laser, by=self.person, comments=values["comments"])
         return self.respond_with(laser)
 
@@ -96,8 +93,7 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
                    summary="Move a laser between in-service statuses, or retire it (LSO)")
     @action(detail=True, methods=["post"], url_path="status")
     def change_status(self, request: Request, pk: str | None = None) -> Response:
-        laser, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (laser, values):
             if values["status"] in RETIRED_STATUSES:
                 laser = laser_services.laser_retire(laser=laser, by=self.person, status=values["status"],
                                                     reason=values["note"], retired_on=values["retired_on"])

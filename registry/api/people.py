@@ -6,7 +6,6 @@ from typing import Any
 from drf_spectacular.utils import OpenApiResponse, extend_schema
 from rest_framework import serializers, status
 from rest_framework.decorators import action
-from rest_framework.parsers import FormParser, JSONParser, MultiPartParser
 from rest_framework.request import Request
 from rest_framework.response import Response
 
@@ -130,8 +129,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Approve (LSO); refused while training or SOP acknowledgement is missing")
     @action(detail=True, methods=["post"])
     def approve(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_approve(
                 authorization=authorization, by=self.person, **values)
         return self.respond_with(authorization)
@@ -140,9 +138,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Withdraw a request (the requester or the LSO)")
     @action(detail=True, methods=["post"])
     def withdraw(self, request: Request, pk: str | None = None) -> Response:
-        authorization = self.get_object()
-        self.check_optional_if_match(authorization)
-        with service_errors():
+        with self.workflow_step(reads_body=False) as (authorization, _):
             authorization = authorization_services.authorization_withdraw(authorization=authorization, by=self.person)
         return self.respond_with(authorization)
 
@@ -150,8 +146,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Revoke an approved authorization, with the reason (LSO)")
     @action(detail=True, methods=["post"])
     def revoke(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_revoke(
                 authorization=authorization, by=self.person, reason=values["reason"])
         return self.respond_with(authorization)
@@ -160,8 +155,7 @@ class AuthorizationViewSet(CreateRecordMixin, RetireRecordMixin, RegisterViewSet
                    summary="Refuse with the reason (LSO)")
     @action(detail=True, methods=["post"])
     def refuse(self, request: Request, pk: str | None = None) -> Response:
-        authorization, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (authorization, values):
             authorization = authorization_services.authorization_refuse(
                 authorization=authorization, by=self.person, reason=values["reason"])
         return self.respond_with(authorization)
@@ -175,7 +169,6 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
     serializer_class = SOPSerializer
     input_serializer_classes = {"update": SOPUpdateSerializer, "partial_update": SOPUpdateSerializer,
                                 "approve": SOPApprovalSerializer}
-    parser_classes = [JSONParser, MultiPartParser, FormParser]
     filterset_fields = ["laser", "status"]
     ordering_fields = ["version", "approved_on", "review_due"]
     ordering = ["laser", "-version"]
@@ -200,8 +193,7 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
                    summary="Put a draft in force (LSO); the previous version is superseded")
     @action(detail=True, methods=["post"])
     def approve(self, request: Request, pk: str | None = None) -> Response:
-        sop, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (sop, values):
             sop = sop_services.sop_approve(sop=sop, by=self.person, **values)
         return self.respond_with(sop)
 
@@ -209,7 +201,6 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
                    summary="State that you have read and will follow this SOP version")
     @action(detail=True, methods=["post"])
     def acknowledge(self, request: Request, pk: str | None = None) -> Response:
-        sop: SOP = self.get_object()
-        with service_errors():
+        with self.workflow_step(reads_body=False) as (sop, _):
             acknowledgement = sop_services.sop_acknowledge(sop=sop, person=self.person)
         return Response(SOPAcknowledgementSerializer(acknowledgement).data, status=status.HTTP_201_CREATED)

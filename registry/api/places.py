@@ -79,8 +79,7 @@ class EyewearViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, 
                    summary="Record an inspection of the item and its condition")
     @action(detail=True, methods=["post"])
     def inspect(self, request: Request, pk: str | None = None) -> Response:
-        eyewear, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (eyewear, values):
             eyewear = eyewear_services.eyewear_inspect(eyewear=eyewear, by=self.person, **values)
         return self.respond_with(eyewear)
 
@@ -88,7 +87,6 @@ class EyewearViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, 
                    summary="Replace the item's protection markings (history keeps the old ones)")
     @action(detail=True, methods=["post"], url_path="markings")
     def set_markings(self, request: Request, pk: str | None = None) -> Response:
-        eyewear, values = self.step_input()
-        with service_errors():
+        with self.workflow_step() as (eyewear, values):
             eyewear = eyewear_services.eyewear_set_markings(eyewear=eyewear, by=self.person, **values)
         return self.respond_with(eyewear)

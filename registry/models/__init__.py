@@ -12,7 +12,7 @@ from registry.models.audit import (
     FindingStatus,
 )
 from registry.models.authorization import OPEN_AUTHORIZATION_STATUSES, Authorization, AuthorizationStatus
-from registry.models.base import RecordRetainedError
+from registry.models.base import FREE_TEXT_MAX_LENGTH, RecordRetainedError
 from registry.models.eyewear import Eyewear, EyewearCondition, EyewearMarking
 from registry.models.hazard import HazardResult
 from registry.models.incident import Incident, IncidentKind, IncidentStatus
@@ -30,6 +30,7 @@ from registry.models.laser import (
     LaserStatus,
     LaserType,
     TemporalMode,
+    class_rank,
 )
 from registry.models.location import InterlockKind, Location
 from registry.models.people import Person, ResearchGroup, Role
@@ -39,10 +40,10 @@ from registry.models.training import GENERAL_COURSES, CourseKind, TrainingRecord
 
 __all__ = [
     "Audit", "AuditChecklistItem", "AuditScope", "AuditStatus", "ChecklistAnswer", "Finding", "FindingSeverity",
-    "FindingStatus", "OPEN_AUTHORIZATION_STATUSES", "Authorization", "AuthorizationStatus", "RecordRetainedError",
+    "FindingStatus", "FREE_TEXT_MAX_LENGTH", "OPEN_AUTHORIZATION_STATUSES", "Authorization", "AuthorizationStatus", "RecordRetainedError",
     "Eyewear", "EyewearCondition", "EyewearMarking", "HazardResult", "Incident", "IncidentKind", "IncidentStatus",
     "EMISSION_BEAM_FIELDS", "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
-    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode",
+    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode", "class_rank",
     "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "ReminderKind", "SentReminder", "SOP", "SOPAcknowledgement", "SOPStatus",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",
 ]

@@ -5,7 +5,7 @@ from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
 
-from registry.models.base import ComplianceRecord
+from registry.models.base import ComplianceRecord, free_text
 from registry.models.laser import Laser
 from registry.models.location import Location
 from registry.models.people import Person
@@ -34,7 +34,7 @@ class Audit(ComplianceRecord):
     conducted_on = models.DateField(_("conducted on"), null=True, blank=True)
     auditor = models.ForeignKey(Person, on_delete=models.PROTECT, related_name="audits", verbose_name=_("auditor"))
     status = models.CharField(_("status"), max_length=20, choices=AuditStatus.choices, default=AuditStatus.PLANNED)
-    summary = models.TextField(_("summary"), blank=True)
+    summary = free_text(_("summary"), blank=True)
     signed_off_by = models.ForeignKey(Person, on_delete=models.PROTECT, null=True, blank=True,
                                       related_name="signed_off_audits", verbose_name=_("signed off by"))
     signed_off_at = models.DateTimeField(_("signed off at"), null=True, blank=True)
@@ -87,7 +87,7 @@ class AuditChecklistItem(ComplianceRecord):
     position = models.PositiveIntegerField(_("position"))
     question = models.CharField(_("question"), max_length=300)
     answer = models.CharField(_("answer"), max_length=4, choices=ChecklistAnswer.choices, blank=True)
-    comment = models.TextField(_("comment"), blank=True)
+    comment = free_text(_("comment"), blank=True)
 
     history = HistoricalRecords()
 
@@ -126,8 +126,8 @@ class Finding(ComplianceRecord):
     location = models.ForeignKey(Location, on_delete=models.PROTECT, null=True, blank=True,
                                  related_name="findings", verbose_name=_("location"))
     severity = models.CharField(_("severity"), max_length=20, choices=FindingSeverity.choices)
-    description = models.TextField(_("what was found"))
-    corrective_action = models.TextField(_("corrective action"), blank=True)
+    description = free_text(_("what was found"))
+    corrective_action = free_text(_("corrective action"), blank=True)
     owner = models.ForeignKey(Person, on_delete=models.PROTECT, related_name="findings",
                               verbose_name=_("action owner"))
     due_on = models.DateField(_("due on"), null=True, blank=True)
@@ -135,7 +135,7 @@ class Finding(ComplianceRecord):
     closed_on = models.DateField(_("closed on"), null=True, blank=True)
     closed_by = models.ForeignKey(Person, on_delete=models.PROTECT, null=True, blank=True,
                                   related_name="closed_findings", verbose_name=_("closed by"))
-    closure_evidence = models.TextField(_("evidence of closure"), blank=True)
+    closure_evidence = free_text(_("evidence of closure"), blank=True)
 
     history = HistoricalRecords()
 

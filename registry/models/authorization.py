@@ -5,7 +5,7 @@ from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
 
-from registry.models.base import ComplianceRecord
+from registry.models.base import ComplianceRecord, free_text
 from registry.models.laser import Laser
 from registry.models.people import Person
 
@@ -35,8 +35,8 @@ class Authorization(ComplianceRecord):
     decided_by = models.ForeignKey(Person, on_delete=models.PROTECT, null=True, blank=True,
                                    related_name="decided_authorizations", verbose_name=_("decided by"))
     decided_at = models.DateTimeField(_("decided at"), null=True, blank=True)
-    decision_reason = models.TextField(_("reason for the decision"), blank=True)
-    conditions = models.TextField(_("conditions"), blank=True,
+    decision_reason = free_text(_("reason for the decision"), blank=True)
+    conditions = free_text(_("conditions"), blank=True,
                                   help_text=_("e.g. 'only with a second trained person present'."))
     valid_until = models.DateField(_("valid until"), null=True, blank=True)
 

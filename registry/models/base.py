@@ -3,8 +3,24 @@ from __future__ import annotations
 
 from typing import Any, NoReturn
 
+from django.core.validators import MaxLengthValidator
 from django.db import models
+from django.utils.functional import Promise
 from django.utils.translation import gettext_lazy as _
+
+# Free text a person writes (a description, a note, a reason): room for pages of it, with a
+# bound, so that no request stores megabytes (common practice, no source).
+FREE_TEXT_MAX_LENGTH = 10_000
+
+
+def free_text(verbose_name: str | Promise, **kwargs: Any) -> models.TextField:  # type: ignore[type-arg]
+    """A TextField held to FREE_TEXT_MAX_LENGTH characters by forms, the API and full_clean().
+
+    Django reads a TextField's max_length only in forms (and DRF in serializers); the
+    validator makes full_clean(), and so every service, refuse a longer text as well.
+    """
+    return models.TextField(verbose_name, max_length=FREE_TEXT_MAX_LENGTH,
+                            validators=[MaxLengthValidator(FREE_TEXT_MAX_LENGTH)], **kwargs)
 
 
 class RecordRetainedError(Exception):
@@ -49,7 +65,7 @@ class ComplianceRecord(RetainedModel):
     """A retained record whose retirement is a date and a reason, not a status."""
 
     retired_at = models.DateTimeField(_("retired at"), null=True, blank=True)
-    retirement_reason = models.TextField(_("retirement reason"), blank=True)
+    retirement_reason = free_text(_("retirement reason"), blank=True)
 
     class Meta:
         abstract = True

@@ -5,7 +5,7 @@ from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
 
-from registry.models.base import ComplianceRecord
+from registry.models.base import ComplianceRecord, free_text
 from registry.models.laser import Laser
 from registry.models.location import Location
 from registry.models.people import Person
@@ -34,8 +34,8 @@ class Incident(ComplianceRecord):
                                     verbose_name=_("reported by"))
     people_involved = models.ManyToManyField(Person, blank=True, related_name="incidents",
                                              verbose_name=_("people involved"))
-    description = models.TextField(_("what happened"))
-    follow_up = models.TextField(_("follow-up"), blank=True)
+    description = free_text(_("what happened"))
+    follow_up = free_text(_("follow-up"), blank=True)
     status = models.CharField(_("status"), max_length=20, choices=IncidentStatus.choices,
                               default=IncidentStatus.REPORTED)
     closed_at = models.DateTimeField(_("closed at"), null=True, blank=True)

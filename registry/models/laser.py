@@ -9,7 +9,7 @@ from simple_history.models import HistoricalRecords
 from hazards.assessment import Mode, check_beam_values
 from hazards.errors import InputError
 
-from registry.models.base import RetainedModel, TimestampedModel
+from registry.models.base import RetainedModel, TimestampedModel, free_text
 from registry.models.location import Location
 from registry.models.people import Person
 
@@ -30,6 +30,11 @@ class LaserClass(models.TextChoices):
 
 
 HAZARDOUS_CLASSES = (LaserClass.CLASS_3B, LaserClass.CLASS_4)
+
+
+def class_rank(label: str) -> int:
+    """A class's place in LaserClass, lowest hazard first; -1 for none (an empty embedded class)."""
+    return LaserClass.values.index(label) if label else -1
 
 
 class LaserStatus(models.TextChoices):
@@ -75,13 +80,13 @@ class Laser(RetainedModel):
                               verbose_name=_("owner"))
     location = models.ForeignKey(Location, on_delete=models.PROTECT, null=True, blank=True,
                                  related_name="lasers", verbose_name=_("location"))
-    description = models.TextField(_("description"), blank=True)
+    description = free_text(_("description"), blank=True)
     received_on = models.DateField(_("received on"), null=True, blank=True)
     commissioned_on = models.DateField(_("commissioned on"), null=True, blank=True)
     retired_on = models.DateField(_("retired on"), null=True, blank=True)
-    review_comments = models.TextField(_("review comments"), blank=True,
+    review_comments = free_text(_("review comments"), blank=True,
                                        help_text=_("The LSO's comments when the registration was returned."))
-    status_note = models.TextField(_("status note"), blank=True,
+    status_note = free_text(_("status note"), blank=True,
                                    help_text=_("Why the last status change was made (e.g. where it was transferred)."))
 
     history = HistoricalRecords()
@@ -130,6 +135,11 @@ class Laser(RetainedModel):
     def effective_class(self) -> str:
         """The class that governs the hazard of the beam itself (the embedded class when given)."""
         return self.embedded_class or self.labelled_class
+
+    @property
+    def is_hazardous(self) -> bool:
+        """Class 3B or 4, labelled or embedded: the lasers the register holds to its strictest rules."""
+        return self.labelled_class in HAZARDOUS_CLASSES or self.embedded_class in HAZARDOUS_CLASSES
 
 
 class TemporalMode(models.TextChoices):
@@ -193,7 +203,7 @@ class Emission(TimestampedModel):
     )
     fibre_na = models.FloatField(_("fibre numerical aperture"), null=True, blank=True,
                                  help_text=_("Only for fibre-delivered beams."))
-    notes = models.TextField(_("notes"), blank=True)
+    notes = free_text(_("notes"), blank=True)
     assessment_problem = models.TextField(
         _("why the hazard is not assessed"), blank=True,
         help_text=_("Set by the register when the hazards engine cannot assess this emission (a missing beam "

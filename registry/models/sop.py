@@ -5,7 +5,7 @@ from django.db import models
 from django.utils.translation import gettext_lazy as _
 from simple_history.models import HistoricalRecords
 
-from registry.models.base import ComplianceRecord
+from registry.models.base import ComplianceRecord, free_text
 from registry.models.laser import Laser
 from registry.models.people import Person
 
@@ -21,7 +21,7 @@ class SOP(ComplianceRecord):
     title = models.CharField(_("title"), max_length=200)
     version = models.PositiveIntegerField(_("version"))
     status = models.CharField(_("status"), max_length=20, choices=SOPStatus.choices, default=SOPStatus.DRAFT)
-    summary = models.TextField(_("summary"), blank=True)
+    summary = free_text(_("summary"), blank=True)
     document = models.FileField(_("document"), upload_to="sops/", blank=True)
     approved_on = models.DateField(_("approved on"), null=True, blank=True)
     approved_by = models.ForeignKey(Person, on_delete=models.PROTECT, null=True, blank=True,

@@ -16,6 +16,13 @@ from registry.models import (
 )
 from registry.permissions import visible_lasers
 from registry.serializers.base import ScopedRelatedField
+from registry.serializers.fields import FreeTextField, IdListField
+
+# The most questions a checklist, and lasers an audit, may be planned with at once; the
+# most people one incident report names. Each is a row or a query (common practice, no source).
+MAX_CHECKLIST_QUESTIONS = 200
+MAX_AUDITED_LASERS = 200
+MAX_PEOPLE_INVOLVED = 50
 
 
 class ChecklistItemSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
@@ -52,9 +59,10 @@ class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     findings = FindingSerializer(many=True, read_only=True)
     questions = serializers.ListField(
         child=serializers.CharField(max_length=300), write_only=True, required=False,
-        help_text="Checklist questions in order (when planning the audit).",
+        max_length=MAX_CHECKLIST_QUESTIONS, help_text="Checklist questions in order (when planning the audit).",
     )
-    lasers = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), many=True, required=False)
+    lasers = IdListField(child_relation=serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all()),
+                         max_length=MAX_AUDITED_LASERS, required=False)
 
     class Meta:
         model = Audit
@@ -83,36 +91,37 @@ class AuditStartSerializer(serializers.Serializer):  # type: ignore[type-arg]
 class ChecklistAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
     position = serializers.IntegerField(min_value=1, help_text="The checklist item's position in the audit.")
     answer = serializers.ChoiceField(choices=[choice for choice in ChecklistAnswer.choices if choice[0]])
-    comment = serializers.CharField(required=False, allow_blank=True, default="")
+    comment = FreeTextField(required=False, allow_blank=True, default="")
 
 
 class FindingRaiseSerializer(serializers.Serializer):  # type: ignore[type-arg]
     severity = serializers.ChoiceField(choices=FindingSeverity.choices)
-    description = serializers.CharField()
+    description = FreeTextField()
     owner = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(),
                                                help_text="Who is responsible for the corrective action.")
     laser = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), required=False, allow_null=True,
                                                default=None)
     location = serializers.PrimaryKeyRelatedField(queryset=Location.objects.all(), required=False, allow_null=True,
                                                   default=None)
-    corrective_action = serializers.CharField(required=False, allow_blank=True, default="")
+    corrective_action = FreeTextField(required=False, allow_blank=True, default="")
     due_on = serializers.DateField(required=False, allow_null=True, default=None)
 
 
 class AuditSignOffSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    summary = serializers.CharField(required=False, allow_null=True, default=None,
+    summary = FreeTextField(required=False, allow_null=True, default=None,
                                     help_text="The audit's conclusion; omit to keep the current summary.")
 
 
 class FindingCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    evidence = serializers.CharField(help_text="What was done and where it can be checked.")
+    evidence = FreeTextField(help_text="What was done and where it can be checked.")
     closed_on = serializers.DateField(required=False, allow_null=True, default=None)
 
 
 class IncidentSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=visible_lasers, required=False, allow_null=True,
                                help_text="The laser involved: one you can see in the register.")
-    people_involved = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(), many=True, required=False)
+    people_involved = IdListField(child_relation=serializers.PrimaryKeyRelatedField(queryset=Person.objects.all()),
+                                  max_length=MAX_PEOPLE_INVOLVED, required=False)
 
     class Meta:
         model = Incident
@@ -131,4 +140,4 @@ class IncidentUpdateSerializer(IncidentSerializer):
 
 
 class IncidentCloseSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    follow_up = serializers.CharField(help_text="What was done after the incident.")
+    follow_up = FreeTextField(help_text="What was done after the incident.")

@@ -12,6 +12,7 @@ from typing import Any
 from rest_framework import serializers
 
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
+from hazards.units import MAX_TEXT_LENGTH
 from registry.models import DiameterDefinition
 from registry.serializers.fields import QuantityField
 
@@ -48,7 +49,7 @@ class EvaluationRequestSerializer(serializers.Serializer):  # type: ignore[type-
     limits = serializers.ChoiceField(choices=list(LIMIT_SETS), required=False, default=DEFAULT_LIMITS,
                                      help_text="Exposure-limit set.")
     source_size = _quantity("rad", "Apparent source size in rad (0 for a point source).", "1.5 mrad")
-    laser_class = serializers.CharField(required=False, allow_null=True,
+    laser_class = serializers.CharField(required=False, allow_null=True, max_length=MAX_TEXT_LENGTH,
                                         help_text="Labelled class, checked for plausibility (e.g. '3B').")
     deliberate = serializers.BooleanField(required=False, default=False,
                                           help_text="Assume deliberate long viewing for the default exposure.")
@@ -61,7 +62,8 @@ class EvaluationRequestSerializer(serializers.Serializer):  # type: ignore[type-
     lens_beam_diameter = _quantity("m", "Beam diameter at that lens in m (default: the exit diameter).", "5 mm")
     fibre_na = _quantity("", "Numerical aperture of a fibre end (dimensionless).", "0.22")
     fibre_core = _quantity("m", "Core diameter of that fibre, in m.", "200 um")
-    eyewear = serializers.ListField(child=serializers.CharField(), required=False,
+    # Each marking is read and checked against the beam; a handful is what a room keeps.
+    eyewear = serializers.ListField(child=serializers.CharField(), required=False, max_length=20,
                                     help_text="Eyewear markings to check, e.g. ['D 1064 LB6'].")
 
     def validate(self, attrs: dict[str, Any]) -> dict[str, Any]:

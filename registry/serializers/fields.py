@@ -1,15 +1,20 @@
-"""Serializer fields for physical quantities.
+"""Serializer fields for physical quantities, free text and lists of ids.
 
 Every physical input accepts a number in the field's documented SI unit or a string with
 its own unit ("5 mW", "10 ns", "1.2 mrad"); hazards.units.parse_quantity does the reading,
 so the API, the CLI and the forms agree on what a value means. Responses give the SI
 number and, beside it, a human-readable string (``<name>_text``).
+
+Text and lists a request carries are bounded too: free text as the models bound it
+(FREE_TEXT_MAX_LENGTH), lists of ids by the caller's count (each id costs a query).
 """
 from __future__ import annotations
 
+from collections.abc import Sequence
 from functools import lru_cache
 from typing import Any
 
+from django.utils.translation import gettext_lazy as _
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
@@ -17,6 +22,7 @@ from rest_framework import serializers
 from hazards.assessment import beam_fields
 from hazards.errors import InputError
 from hazards.units import format_si, parse_quantity
+from registry.models import FREE_TEXT_MAX_LENGTH
 
 # The string form documented in the schema: it starts with a number (JSON Schema patterns
 # are not anchored at the end). Whether the unit exists and has the right dimension is
@@ -111,3 +117,31 @@ def _quantity_text(value: float, unit: str) -> str:
 def _readable(text: str) -> str:
     """pint's exponent notation as people write it: "J/m**2" -> "J/m²"."""
     return text.replace("**2", "\u00b2")
+
+
+class FreeTextField(serializers.CharField):
+    """Free text sent to a workflow step (a note, a reason, evidence), bounded as the model fields
+    it is stored in (FREE_TEXT_MAX_LENGTH), so that a long one is refused naming this field."""
+
+    def __init__(self, **kwargs: Any) -> None:
+        super().__init__(max_length=FREE_TEXT_MAX_LENGTH, **kwargs)
+
+
+class IdListField(serializers.ManyRelatedField):
+    """Ids of related records, at most ``max_length`` of them.
+
+    DRF looks each id up with its own query, so an unbounded list would be unbounded work;
+    a longer list is refused before any lookup.
+    """
+
+    default_error_messages = {"max_length": _("Ensure this list has no more than {max_length} items.")}
+
+    def __init__(self, *, child_relation: serializers.RelatedField, max_length: int,  # type: ignore[type-arg]
+                 **kwargs: Any) -> None:
+        self.max_length = max_length
+        super().__init__(child_relation=child_relation, **kwargs)
+
+    def to_internal_value(self, data: Any) -> list[Any]:
+        if isinstance(data, Sequence) and not isinstance(data, str) and len(data) > self.max_length:
+            self.fail("max_length", max_length=self.max_length)
+        return super().to_internal_value(data)  # type: ignore[no-any-return]

@@ -17,7 +17,7 @@ from registry.models import (
 )
 from registry.permissions import editable_lasers, person_of
 from registry.serializers.base import ColumnReadMixin, ScopedRelatedField, SelectorListSerializer, record_url
-from registry.serializers.fields import BeamQuantityField, QuantityField, QuantitySerializerMixin
+from registry.serializers.fields import BeamQuantityField, FreeTextField, QuantityField, QuantitySerializerMixin
 
 class HazardResultSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     """The engine's figures for one emission under one limit set, as stored at ``computed_at``."""
@@ -118,15 +118,18 @@ class EmissionSerializer(QuantitySerializerMixin, ColumnReadMixin, serializers.M
                                  help_text="Numerical aperture of a fibre delivery (dimensionless).")
     hazard_results = SelectorListSerializer(child=HazardResultSerializer(), read_only=True, source="current_results",
                                             help_text="Current hazard results, one per limit set.")
+    assessment_problem = serializers.CharField(
+        read_only=True, help_text="Why the hazards engine could not assess this emission (then hazard_results is "
+                                  "empty); empty when it was assessed.")
 
     class Meta:
         model = Emission
         fields = [
             "id", "laser", "label", "wavelength", "wavelength_max", "temporal_mode", "average_power",
             "pulse_energy", "pulse_duration", "prf", "beam_diameter", "diameter_at", "divergence", "source_size",
-            "fibre_na", "notes", "hazard_results", "created_at", "updated_at",
+            "fibre_na", "notes", "assessment_problem", "hazard_results", "created_at", "updated_at",
         ]
-        read_only_fields = ["created_at", "updated_at"]
+        read_only_fields = ["assessment_problem", "created_at", "updated_at"]
 
 
 class EmissionUpdateSerializer(EmissionSerializer):
@@ -183,18 +186,17 @@ class LaserUpdateSerializer(LaserSerializer):
 
 
 class LaserReviewSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    note = serializers.CharField(required=False, allow_blank=True, default="",
-                                 help_text="A note kept with the status change.")
+    note = FreeTextField(required=False, allow_blank=True, default="", help_text="A note kept with the status change.")
 
 
 class LaserSendBackSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    comments = serializers.CharField(help_text="What the owner must change before resubmitting.")
+    comments = FreeTextField(help_text="What the owner must change before resubmitting.")
 
 
 class LaserStatusSerializer(serializers.Serializer):  # type: ignore[type-arg]
     status = serializers.ChoiceField(choices=[
         LaserStatus.ACTIVE, LaserStatus.IN_STORAGE, LaserStatus.OUT_OF_SERVICE, *RETIRED_STATUSES])
-    note = serializers.CharField(required=False, allow_blank=True, default="",
-                                 help_text="Why; required when disposing of or transferring the laser.")
+    note = FreeTextField(required=False, allow_blank=True, default="",
+                         help_text="Why; required when disposing of or transferring the laser.")
     retired_on = serializers.DateField(required=False, allow_null=True, default=None,
                                        help_text="For disposed or transferred: the date (default today).")

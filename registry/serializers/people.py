@@ -8,6 +8,7 @@ from rest_framework import serializers
 from registry.models import SOP, Authorization, CourseKind, Laser, Person, ResearchGroup, Role, TrainingRecord
 from registry.permissions import editable_lasers, requestable_people
 from registry.serializers.base import ScopedRelatedField
+from registry.serializers.fields import FreeTextField
 
 
 class PersonSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
@@ -119,13 +120,13 @@ class AuthorizationSerializer(serializers.ModelSerializer):  # type: ignore[type
 class AuthorizationApprovalSerializer(serializers.Serializer):  # type: ignore[type-arg]
     valid_until = serializers.DateField(required=False, allow_null=True, default=None,
                                         help_text="Last day the authorization holds (none: until revoked).")
-    conditions = serializers.CharField(required=False, allow_null=True, default=None,
+    conditions = FreeTextField(required=False, allow_null=True, default=None,
                                        help_text="Conditions of use; omit to keep those of the request.")
-    reason = serializers.CharField(required=False, allow_blank=True, default="")
+    reason = FreeTextField(required=False, allow_blank=True, default="")
 
 
 class AuthorizationRefusalSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    reason = serializers.CharField(help_text="Why the request is refused (shown to the requester).")
+    reason = FreeTextField(help_text="Why the request is refused (shown to the requester).")
 
 
 class PrerequisitesSerializer(serializers.Serializer):  # type: ignore[type-arg]

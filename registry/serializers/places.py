@@ -30,6 +30,11 @@ class LocationUpdateSerializer(LocationSerializer):
         read_only_fields = [*LocationSerializer.Meta.read_only_fields, "code"]
 
 
+# The most wavelength bands one eyewear item is marked with (common practice, no source:
+# a filter is marked for a handful).
+MAX_MARKED_BANDS = 20
+
+
 class EyewearMarkingSerializer(QuantitySerializerMixin, serializers.ModelSerializer):  # type: ignore[type-arg]
     wavelength_min = QuantityField(source="wavelength_min_m", unit="m", minimum=MIN_WAVELENGTH_M,
                                    maximum=MAX_WAVELENGTH_M, example="190 nm",
@@ -55,7 +60,8 @@ class EyewearMarkingSerializer(QuantitySerializerMixin, serializers.ModelSeriali
 
 
 class EyewearSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
-    markings = EyewearMarkingSerializer(many=True, help_text="Protection marked on the item, per band.")
+    markings = EyewearMarkingSerializer(many=True, max_length=MAX_MARKED_BANDS,
+                                        help_text="Protection marked on the item, per band.")
     location_label = serializers.SerializerMethodField()
 
     class Meta:
@@ -81,7 +87,7 @@ class EyewearUpdateSerializer(EyewearSerializer):
 
 
 class EyewearMarkingsSerializer(serializers.Serializer):  # type: ignore[type-arg]
-    markings = EyewearMarkingSerializer(many=True)
+    markings = EyewearMarkingSerializer(many=True, max_length=MAX_MARKED_BANDS)
 
 
 class EyewearInspectionSerializer(serializers.Serializer):  # type: ignore[type-arg]

@@ -22,6 +22,8 @@ from registry.models import (
     Role,
 )
 from registry.services._common import (
+    lock_for_change,
+    lock_for_decision,
     require_role,
     require_text,
     require_transition,
@@ -75,6 +77,7 @@ def audit_plan(
 
 @transaction.atomic
 def audit_start(*, audit: Audit, by: Person, conducted_on: datetime.date | None = None) -> Audit:
+    lock_for_change(audit)
     require_transition(audit, current=audit.status, target=AuditStatus.IN_PROGRESS, allowed=AUDIT_TRANSITIONS)
     audit.status = AuditStatus.IN_PROGRESS
     audit.conducted_on = conducted_on or timezone.localdate()
@@ -89,7 +92,9 @@ def _require_in_progress(audit: Audit, *, action: str) -> None:
 
 @transaction.atomic
 def audit_answer(*, item: AuditChecklistItem, answer: str, by: Person, comment: str = "") -> AuditChecklistItem:
-    _require_in_progress(item.audit, action="checklist answers can be given")
+    # The audit first, as every step on an audit locks it: its state decides, and sign-off waits.
+    _require_in_progress(lock_for_decision(item.audit), action="checklist answers can be given")
+    lock_for_change(item)
     if answer == ChecklistAnswer.UNANSWERED:
         raise ValidationError({"answer": "Give an answer: yes, no or n/a."})
     item.answer = answer
@@ -110,7 +115,7 @@ def finding_raise(
     corrective_action: str = "",
     due_on: datetime.date | None = None,
 ) -> Finding:
-    _require_in_progress(audit, action="findings can be raised")
+    _require_in_progress(lock_for_decision(audit), action="findings can be raised")
     finding = Finding(audit=audit, severity=severity, description=description, owner=owner, laser=laser,
                       location=location, corrective_action=corrective_action, due_on=due_on)
     return validated_save(finding, by=by)
@@ -119,6 +124,7 @@ def finding_raise(
 @transaction.atomic
 def finding_close(*, finding: Finding, by: Person, evidence: str, closed_on: datetime.date | None = None) -> Finding:
     """Close a finding; the evidence (what was done, where it can be checked) is required."""
+    lock_for_change(finding)
     require_transition(finding, current=finding.status, target=FindingStatus.CLOSED, allowed=FINDING_TRANSITIONS)
     finding.closure_evidence = require_text(evidence, field="closure_evidence", what="Evidence of the correction")
     finding.status = FindingStatus.CLOSED
@@ -133,6 +139,7 @@ def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
     """Sign an audit off once every checklist question is answered. Open findings stay
     open and are followed up on their own."""
     require_role(by, Role.LSO, action="sign off an audit")
+    lock_for_change(audit)
     require_transition(audit, current=audit.status, target=AuditStatus.SIGNED_OFF, allowed=AUDIT_TRANSITIONS)
     unanswered = list(audit.checklist.filter(answer=ChecklistAnswer.UNANSWERED).values_list("position", flat=True))
     if unanswered:
@@ -150,6 +157,7 @@ def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
 def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
     """Change an audit's plan (AUDIT_EDITABLE_FIELDS) while it is planned or in progress."""
     require_role(by, Role.LSO, action="change an audit's plan")
+    lock_for_change(audit)
     if audit.status == AuditStatus.SIGNED_OFF:
         raise StateError(field="status", message=f"{audit.reference} is signed off; its plan cannot change.")
     return save_changes(audit, changes, editable=AUDIT_EDITABLE_FIELDS, what="an audit", by=by)
@@ -159,6 +167,7 @@ def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
 def finding_update(*, finding: Finding, by: Person, **changes: Any) -> Finding:
     """Change a finding's follow-up (FINDING_EDITABLE_FIELDS) while it is open."""
     require_role(by, Role.LSO, action="change a finding")
+    lock_for_change(finding)
     if finding.status != FindingStatus.OPEN:
         raise StateError(field="status", message=f"{finding} is {finding.get_status_display()}; "
                                                  "its follow-up cannot change.")

@@ -9,7 +9,14 @@ from django.utils import timezone
 
 from registry.models import Authorization, AuthorizationStatus, Laser, LaserStatus, Person, Role
 from registry.selectors import authorization_missing_prerequisites
-from registry.services._common import require_role, require_text, require_transition, validated_save
+from registry.services._common import (
+    lock_for_change,
+    lock_for_decision,
+    require_role,
+    require_text,
+    require_transition,
+    validated_save,
+)
 from registry.services.errors import PrerequisiteError
 
 A = AuthorizationStatus
@@ -26,6 +33,7 @@ AUTHORIZATION_TRANSITIONS: dict[str, frozenset[str]] = {
 @transaction.atomic
 def authorization_request(*, person: Person, laser: Laser, by: Person, conditions: str = "") -> Authorization:
     """Ask for ``person`` to be authorized on ``laser`` (an active laser)."""
+    lock_for_decision(laser, field="laser")
     if laser.status != LaserStatus.ACTIVE:
         raise ValidationError({"laser": f"{laser.asset_tag} is {laser.get_status_display()}; "
                                         "authorizations are requested for active lasers only."})
@@ -35,6 +43,7 @@ def authorization_request(*, person: Person, laser: Laser, by: Person, condition
 
 
 def _decide(authorization: Authorization, target: str, *, by: Person, reason: str) -> Authorization:
+    """A decision on an authorization locked by lock_for_change."""
     require_transition(authorization, current=authorization.status, target=target, allowed=AUTHORIZATION_TRANSITIONS)
     authorization.status = target
     authorization.decided_by = by
@@ -48,6 +57,7 @@ def authorization_approve(*, authorization: Authorization, by: Person, valid_unt
                           conditions: str | None = None, reason: str = "") -> Authorization:
     """Approve a request; refused while prerequisites are missing (valid training, SOP read)."""
     require_role(by, Role.LSO, action="approve an authorization")
+    lock_for_change(authorization)
     require_transition(authorization, current=authorization.status, target=A.APPROVED,
                        allowed=AUTHORIZATION_TRANSITIONS)
     missing = authorization_missing_prerequisites(person=authorization.person, laser=authorization.laser)
@@ -63,11 +73,13 @@ def authorization_approve(*, authorization: Authorization, by: Person, valid_unt
 def authorization_refuse(*, authorization: Authorization, by: Person, reason: str) -> Authorization:
     require_role(by, Role.LSO, action="refuse an authorization")
     text = require_text(reason, field="decision_reason", what="A reason for the refusal")
+    lock_for_change(authorization)
     return _decide(authorization, A.REFUSED, by=by, reason=text)
 
 
 @transaction.atomic
 def authorization_withdraw(*, authorization: Authorization, by: Person) -> Authorization:
+    lock_for_change(authorization)
     require_transition(authorization, current=authorization.status, target=A.WITHDRAWN,
                        allowed=AUTHORIZATION_TRANSITIONS)
     authorization.status = A.WITHDRAWN
@@ -78,4 +90,5 @@ def authorization_withdraw(*, authorization: Authorization, by: Person) -> Autho
 def authorization_revoke(*, authorization: Authorization, by: Person, reason: str) -> Authorization:
     require_role(by, Role.LSO, action="revoke an authorization")
     text = require_text(reason, field="decision_reason", what="A reason for the revocation")
+    lock_for_change(authorization)
     return _decide(authorization, A.REVOKED, by=by, reason=text)

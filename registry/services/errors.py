@@ -37,3 +37,12 @@ class StateError(ValidationError):
 
     def __init__(self, *, field: str, message: str) -> None:
         super().__init__({field: message})
+
+
+class StateConflict(StateError):
+    """A step refused because the record's state changed after its caller read it."""
+
+    def __init__(self, *, record: object, field: str, seen: object, now: object) -> None:
+        super().__init__(field=field, message=(
+            f"{record} changed while this request was being handled: its {field} is now '{now}', not '{seen}'. "
+            "Nothing was saved; read it again and decide on what it is now."))

@@ -9,7 +9,14 @@ from django.db import transaction
 from django.utils import timezone
 
 from registry.models import Eyewear, EyewearMarking, Location, Person, Role
-from registry.services._common import quantity, require_role, save_changes, validated_save
+from registry.services._common import (
+    lock_for_change,
+    lock_for_decision,
+    quantity,
+    require_role,
+    save_changes,
+    validated_save,
+)
 
 
 class MarkingInput(TypedDict, total=False):
@@ -56,6 +63,7 @@ def eyewear_create(*, inventory_tag: str, location: Location, markings: Iterable
 @transaction.atomic
 def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], by: Person | None) -> Eyewear:
     """Replace the item's markings (e.g. after a filter was swapped); history keeps the old ones."""
+    lock_for_decision(eyewear)
     eyewear.markings.all().delete()
     for given in markings:
         validated_save(_marking(eyewear, given), by=by)
@@ -65,6 +73,7 @@ def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], 
 @transaction.atomic
 def eyewear_inspect(*, eyewear: Eyewear, by: Person, condition: str,
                     inspected_on: datetime.date | None = None) -> Eyewear:
+    lock_for_change(eyewear)
     eyewear.condition = condition
     eyewear.last_inspected_on = inspected_on or timezone.localdate()
     return validated_save(eyewear, by=by)
@@ -84,6 +93,7 @@ def location_create(*, code: str, site: str, building: str, room: str, by: Perso
 def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
     """Correct an item's description or where it is kept (EYEWEAR_EDITABLE_FIELDS)."""
     require_role(by, Role.LSO, action="change an eyewear record")
+    lock_for_change(eyewear)
     return save_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item", by=by)
 
 
@@ -91,6 +101,7 @@ def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
 def location_update(*, location: Location, by: Person, **changes: Any) -> Location:
     """Correct a room's details (LOCATION_EDITABLE_FIELDS); longest_dimension_m takes units."""
     require_role(by, Role.LSO, action="change a location")
+    lock_for_change(location)
     if "longest_dimension_m" in changes:
         changes["longest_dimension_m"] = quantity(changes["longest_dimension_m"], field="longest_dimension_m",
                                                   unit="m", minimum=0.0, inclusive_minimum=False)

@@ -10,6 +10,7 @@ from django.utils import timezone
 
 from registry.models import Incident, IncidentStatus, Laser, Location, Person, Role
 from registry.services._common import (
+    lock_for_change,
     require_role,
     require_text,
     require_transition,
@@ -53,6 +54,7 @@ def incident_report(
 @transaction.atomic
 def incident_investigate(*, incident: Incident, by: Person) -> Incident:
     require_role(by, Role.LSO, action="open an incident investigation")
+    lock_for_change(incident)
     require_transition(incident, current=incident.status, target=IncidentStatus.INVESTIGATING,
                        allowed=INCIDENT_TRANSITIONS)
     incident.status = IncidentStatus.INVESTIGATING
@@ -63,6 +65,7 @@ def incident_investigate(*, incident: Incident, by: Person) -> Incident:
 def incident_close(*, incident: Incident, by: Person, follow_up: str,
                    at: datetime.datetime | None = None) -> Incident:
     require_role(by, Role.LSO, action="close an incident")
+    lock_for_change(incident)
     require_transition(incident, current=incident.status, target=IncidentStatus.CLOSED, allowed=INCIDENT_TRANSITIONS)
     incident.follow_up = require_text(follow_up, field="follow_up", what="The follow-up")
     incident.status = IncidentStatus.CLOSED
@@ -77,6 +80,7 @@ def incident_update(*, incident: Incident, by: Person, **changes: Any) -> Incide
     Who may (the LSO, or the reporter) is the API policy's decision; the service refuses
     any change once the incident is closed.
     """
+    lock_for_change(incident)
     if incident.status == IncidentStatus.CLOSED:
         raise StateError(field="status", message=f"{incident.reference} is closed; its account cannot change.")
     return save_changes(incident, changes, editable=INCIDENT_EDITABLE_FIELDS, what="an incident", by=by)

@@ -12,17 +12,26 @@ from django.utils import timezone
 from hazards.assessment import beam_fields
 from registry.models import (
     EMISSION_BEAM_FIELDS,
-    HAZARDOUS_CLASSES,
     RETIRED_STATUSES,
     Emission,
     Laser,
     LaserStatus,
     Person,
     Role,
+    class_rank,
 )
+from registry.selectors import emissions_not_assessed
+from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
-from registry.services._common import quantity, require_role, require_text, require_transition, validated_save
-from registry.services.errors import PrerequisiteError, StateError
+from registry.services._common import (
+    lock_for_change,
+    lock_for_decision,
+    quantity,
+    require_role,
+    require_text,
+    require_transition,
+    validated_save,
+)
 
 S = LaserStatus
 
@@ -38,6 +47,9 @@ LASER_TRANSITIONS: dict[str, frozenset[str]] = {
     S.DISPOSED: frozenset(),
     S.TRANSFERRED: frozenset(),
 }
+
+# Statuses a laser reaches only once an LSO has approved its registration.
+APPROVED_STATUSES = frozenset({S.ACTIVE, S.IN_STORAGE, S.OUT_OF_SERVICE})
 
 # Fields a laser's editors may change directly; status, review comments and retirement
 # dates change only through the workflow services below.
@@ -77,19 +89,20 @@ def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[st
     return laser
 
 
-def require_in_care(laser: Laser) -> None:
-    """Refuse a change to a disposed or transferred laser: it keeps what it said when it left."""
-    if laser.status in RETIRED_STATUSES:
-        raise StateError(field="status", message=(
-            f"{laser.asset_tag} is {laser.get_status_display()}; a retired laser and its emissions are not changed."))
-
-
 @transaction.atomic
 def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
+    """Change LASER_EDITABLE_FIELDS. An approved laser whose class anyone but the LSO lowers
+    goes back to pending review: the approval was given for the class it had."""
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
-    require_in_care(laser)
+    lock_for_change(laser)
+    before = (laser.labelled_class, laser.effective_class)
     for name, value in fields.items():
         setattr(laser, name, value)
+    if not by.is_lso and laser.status in APPROVED_STATUSES and _lowered(before, laser):
+        laser.status = LaserStatus.PENDING_REVIEW
+        laser.status_note = (f"Back to review: {by} lowered the class from {_classes(*before)} to "
+                             f"{_classes(laser.labelled_class, laser.effective_class)}; the LSO confirms a lower "
+                             "class before the laser is in service again.")
     validated_save(laser, by=by)
     if {"labelled_class", "embedded_class"} & set(fields):
         # The class enters the assessment (its plausibility check), so the results follow it.
@@ -97,13 +110,18 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     return laser
 
 
-def _locked(laser: Laser) -> Laser:
-    """``laser`` read again with its row locked until the transaction ends, so that a workflow
-    step checks the status as it is now, not as the caller last read it (two LSOs at once)."""
-    return Laser.objects.select_for_update().get(pk=laser.pk)
+def _lowered(before: tuple[str, str], laser: Laser) -> bool:
+    labelled, effective = before
+    return (class_rank(laser.labelled_class) < class_rank(labelled)
+            or class_rank(laser.effective_class) < class_rank(effective))
+
+
+def _classes(labelled: str, effective: str) -> str:
+    return labelled if labelled == effective else f"{labelled} (embedded {effective})"
 
 
 def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
+    """A status change of a laser locked by lock_for_change."""
     require_transition(laser, current=laser.status, target=target, allowed=LASER_TRANSITIONS)
     laser.status = target
     laser.status_note = note
@@ -113,24 +131,26 @@ def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
 @transaction.atomic
 def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Resubmit a returned registration for review."""
-    laser = _locked(laser)
+    lock_for_change(laser)
     return _move(laser, LaserStatus.PENDING_REVIEW, by=by, note=note)
 
 
 @transaction.atomic
 def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
-    """Accept a registration after review; the laser must describe at least one emission."""
+    """Accept a registration after review. The laser must describe at least one emission, and
+    for a class 3B or 4 laser (labelled or embedded) the engine must have assessed every one:
+    the review rests on those figures."""
     require_role(by, Role.LSO, action="approve a laser")
-    laser = _locked(laser)
+    lock_for_change(laser)
     require_transition(laser, current=laser.status, target=LaserStatus.ACTIVE, allowed=LASER_TRANSITIONS)
-    if not laser.emissions.exists():
+    emissions = list(laser.emissions.select_related("laser"))
+    if not emissions:
         raise ValidationError({"emissions": f"{laser.asset_tag} has no emission; add its beam parameters first."})
-    if laser.labelled_class in HAZARDOUS_CLASSES or laser.embedded_class in HAZARDOUS_CLASSES:
-        # The review approves a hazard evaluation: a class 3B or 4 beam without one is not approved.
-        unassessed = [f"{emission} has no hazard assessment: {emission.assessment_problem or 'not assessed yet'}"
-                      for emission in laser.emissions.select_related("laser").filter(hazard_results__isnull=True)]
+    if laser.is_hazardous:
+        hazard_results_refresh(emissions=emissions, by=by, only_stale=True)
+        unassessed = emissions_not_assessed(laser=laser)
         if unassessed:
-            raise PrerequisiteError(field="emissions", missing=unassessed)
+            raise PrerequisiteError(field="emissions", missing=[f"a hazard assessment of {item}" for item in unassessed])
     laser.review_comments = ""
     return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
 
@@ -139,8 +159,10 @@ def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
 def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
     """Send a registration back to its owner with what must change."""
     require_role(by, Role.LSO, action="return a laser registration")
-    laser = _locked(laser)
-    laser.review_comments = require_text(comments, field="review_comments", what="A comment for the owner")
+    text = require_text(comments, field="review_comments", what="A comment for the owner")
+    lock_for_change(laser)
+    require_transition(laser, current=laser.status, target=LaserStatus.RETURNED, allowed=LASER_TRANSITIONS)
+    laser.review_comments = text
     return _move(laser, LaserStatus.RETURNED, by=by)
 
 
@@ -151,6 +173,7 @@ def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -
         raise ValidationError({"status": "Use laser_retire to dispose of or transfer a laser."})
     if status in (LaserStatus.PENDING_REVIEW, LaserStatus.RETURNED):
         raise ValidationError({"status": "Review statuses are set by laser_submit, laser_approve and laser_return."})
+    lock_for_change(laser)
     return _move(laser, status, by=by, note=note)
 
 
@@ -161,9 +184,11 @@ def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
     require_role(by, Role.LSO, action="retire a laser")
     if status not in RETIRED_STATUSES:
         raise ValidationError({"status": f"A laser retires as {' or '.join(RETIRED_STATUSES)}, not '{status}'."})
+    note = require_text(reason, field="status_note", what="A reason")
+    lock_for_change(laser)
     require_transition(laser, current=laser.status, target=status, allowed=LASER_TRANSITIONS)
     laser.retired_on = retired_on or timezone.localdate()
-    return _move(laser, status, by=by, note=require_text(reason, field="status_note", what="A reason"))
+    return _move(laser, status, by=by, note=note)
 
 
 def emission_values(**fields: Any) -> dict[str, Any]:
@@ -195,8 +220,8 @@ def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
 def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
     """Add an emission and assess it. Quantities are SI numbers or strings with units
     ("532 nm", "5 mW"). An emission the engine cannot assess yet is saved without results."""
-    require_in_care(laser)
-    emission = Emission(laser=laser)
+    # The laser is locked while the emission joins it, so it cannot retire meanwhile.
+    emission = Emission(laser=lock_for_decision(laser, field="laser"))
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)
@@ -206,7 +231,7 @@ def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emissi
 @transaction.atomic
 def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
     """Change an emission; its hazard results are recomputed (or dropped if it cannot be assessed)."""
-    require_in_care(emission.laser)
+    lock_for_change(emission)
     _apply_emission_fields(emission, fields)
     validated_save(emission, by=by)
     hazard_results_refresh(emissions=[emission], by=by)

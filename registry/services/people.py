@@ -14,7 +14,7 @@ from typing import Any
 from django.db import transaction
 
 from registry.models import Person, ResearchGroup, Role
-from registry.services._common import apply_changes, require_role, validated_save
+from registry.services._common import apply_changes, lock_for_change, require_role, validated_save
 
 ROLE_GROUP_NAMES: dict[str, str] = {
     Role.LSO: "Laser safety officers",
@@ -105,6 +105,11 @@ def person_create(
 @transaction.atomic
 def person_set_role(*, person: Person, role: str, by: Person) -> Person:
     require_role(by, Role.LSO, action="change a person's role")
+    lock_for_change(person)
+    return _set_role(person, role, by=by)
+
+
+def _set_role(person: Person, role: str, *, by: Person) -> Person:
     person.role = role
     validated_save(person, by=by)
     person_sync_account(person=person)
@@ -116,13 +121,15 @@ def person_update(*, person: Person, by: Person | None, **changes: Any) -> Perso
     """Change the given PERSON_EDITABLE_FIELDS only; a new role goes through person_set_role
     (LSO only), which also moves the account to the role's group."""
     role = changes.pop("role", None)
+    lock_for_change(person)
     apply_changes(person, changes, editable=PERSON_EDITABLE_FIELDS - {"role"}, what="a person")
     if role is None or role == person.role:
         return validated_save(person, by=by)
     if by is None:
         raise ValidationError({"role": "A role change needs the laser safety officer who makes it."})
-    # person_set_role saves the other changes with the role, as one history entry.
-    return person_set_role(person=person, role=role, by=by)
+    require_role(by, Role.LSO, action="change a person's role")
+    # Saved with the other changes, as one history entry.
+    return _set_role(person, role, by=by)
 
 
 @transaction.atomic

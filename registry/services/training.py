@@ -7,7 +7,7 @@ from typing import Any
 from django.db import transaction
 
 from registry.models import Laser, Person, Role, TrainingRecord
-from registry.services._common import require_role, save_changes, validated_save
+from registry.services._common import lock_for_change, require_role, save_changes, validated_save
 
 # What a training portal corrects; whose training it is and which laser it covers stay
 # as recorded (a different person's training is a new record).
@@ -39,5 +39,6 @@ def training_record(
 def training_record_update(*, training_record: TrainingRecord, by: Person, **changes: Any) -> TrainingRecord:
     """Correct a training record (TRAINING_EDITABLE_FIELDS); the dates are checked together."""
     require_role(by, Role.LSO, action="correct a training record")
+    lock_for_change(training_record)
     return save_changes(training_record, changes, editable=TRAINING_EDITABLE_FIELDS, what="a training record",
                         by=by)

@@ -21,6 +21,7 @@ from registry.models import (
 )
 from registry.services import (
     PrerequisiteError,
+    StateError,
     TransitionError,
     audit_answer,
     audit_plan,
@@ -248,7 +249,7 @@ class TestRetirement:
         record.refresh_from_db()
         assert record.is_retired
         assert record.retirement_reason == "Entered twice."
-        with pytest.raises(ValidationError, match="already retired"):
+        with pytest.raises(StateError, match="was retired on .*; a retired record is read-only"):
             record_retire(record=record, by=lso, reason="again")
 
     @pytest.mark.parametrize("factory_class", [
