@@ -69,6 +69,8 @@ def parse_quantity(
 def bounded_text(text: str, *, field: str) -> str:
     """``text`` without surrounding whitespace; InputError naming ``field`` if it is too long to be a value."""
     if len(text) > MAX_TEXT_LENGTH:
+        if text.strip().lstrip("+-").isdigit():
+            raise InputError(field, f"a number of {len(text.strip().lstrip('+-'))} digits is out of range")
         raise InputError(field, f"is {len(text)} characters long; a value is at most {MAX_TEXT_LENGTH}")
     return text.strip()
 

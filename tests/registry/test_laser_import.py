@@ -353,8 +353,9 @@ def test_a_retired_laser_in_the_register_is_not_changed(tmp_path: Path, lso: Per
     history = history_rows()
     report = run(write_csv(tmp_path / "again", [HEADER, row("RT-1", "2", "main", "cw", "635 nm", "2 mW",
                                                             status="disposed")]), lso)
-    assert problems(report) == {(2, "status")}
-    assert "RT-1 is disposed; a retired laser and its emissions are not changed." in report.problems[0].reason
+    # The whole row is refused: its emission belongs to a laser that is read-only now.
+    assert problems(report) == {(2, "")}
+    assert "RT-1 is disposed: a disposed or transferred laser and its emissions" in report.problems[0].reason
     assert Emission.objects.get().average_power_W == pytest.approx(1e-3)
     assert history_rows() == history
 
