@@ -146,6 +146,24 @@ def audit_list() -> QuerySet[Audit]:
     )
 
 
+def audit_scope_lasers(audit: Audit) -> QuerySet[Laser]:
+    """The lasers ``audit`` covers, as ``laser_list()`` loads them: those chosen for a laser audit;
+    for a room or a site, those in the register's care there (every status but disposed and
+    transferred; a site audit without a site name covers every room)."""
+    lasers = laser_list().order_by("location__site", "location__building", "location__room", "asset_tag")
+    if audit.scope == AuditScope.LASERS:
+        return lasers.filter(audits=audit)
+    lasers = lasers.exclude(status__in=RETIRED_STATUSES)
+    if audit.scope == AuditScope.LOCATION:
+        return lasers.filter(location_id=audit.location_id)
+    return lasers.filter(location__site=audit.site) if audit.site else lasers.filter(location__isnull=False)
+
+
+def lso_contacts() -> QuerySet[Person]:
+    """The laser safety officers a sign or report names as the contact."""
+    return person_list().filter(role=Role.LSO, user__is_active=True)
+
+
 def finding_list() -> QuerySet[Finding]:
     return Finding.objects.select_related("audit", "laser", "location", "owner__user", "closed_by__user")
 

@@ -19,7 +19,7 @@ from registry.models import (
 class ChecklistItemSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     class Meta:
         model = AuditChecklistItem
-        fields = ["id", "position", "question", "answer", "comment"]
+        fields = ["id", "position", "question", "control", "laser", "location", "answer", "comment"]
         read_only_fields = fields
 
 
@@ -28,7 +28,7 @@ class FindingSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
 
     class Meta:
         model = Finding
-        fields = ["id", "audit", "laser", "location", "severity", "description", "corrective_action", "owner",
+        fields = ["id", "audit", "checklist_item", "laser", "location", "severity", "description", "corrective_action", "owner",
                   "owner_name", "due_on", "status", "closed_on", "closed_by", "closure_evidence", "retired_at",
                   "retirement_reason", "created_at", "updated_at"]
         read_only_fields = fields
@@ -50,13 +50,15 @@ class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     findings = FindingSerializer(many=True, read_only=True)
     questions = serializers.ListField(
         child=serializers.CharField(max_length=300), write_only=True, required=False,
-        help_text="Checklist questions in order (when planning the audit).",
+        help_text="The plan's own checklist questions, in order; the control measures of the lasers in scope "
+                  "join the checklist when the audit starts.",
     )
     lasers = serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all(), many=True, required=False)
 
     class Meta:
         model = Audit
-        fields = ["id", "reference", "scope", "location", "lasers", "site", "planned_on", "conducted_on", "auditor",
+        fields = ["id", "reference", "scope", "location", "lasers", "site", "planned_on", "period_start",
+                  "period_end", "conducted_on", "auditor",
                   "status", "summary", "signed_off_by", "signed_off_at", "checklist", "findings", "questions",
                   "retired_at", "retirement_reason", "created_at", "updated_at"]
         read_only_fields = ["conducted_on", "status", "summary", "signed_off_by", "signed_off_at", "retired_at",
@@ -78,10 +80,22 @@ class AuditStartSerializer(serializers.Serializer):  # type: ignore[type-arg]
                                          help_text="Date of the audit visit (default today).")
 
 
+class FailureFindingSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    severity = serializers.ChoiceField(choices=FindingSeverity.choices)
+    corrective_action = serializers.CharField()
+    owner = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(),
+                                               help_text="Who is responsible for the corrective action.")
+    due_on = serializers.DateField()
+
+
 class ChecklistAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
     position = serializers.IntegerField(min_value=1, help_text="The checklist item's position in the audit.")
     answer = serializers.ChoiceField(choices=[choice for choice in ChecklistAnswer.choices if choice[0]])
-    comment = serializers.CharField(required=False, allow_blank=True, default="")
+    comment = serializers.CharField(required=False, allow_blank=True, default="",
+                                    help_text="A note; for a failure, what failed (it describes the finding).")
+    finding = FailureFindingSerializer(
+        required=False, allow_null=True, default=None,
+        help_text="Required with the first failure of an item: the finding it raises.")
 
 
 class FindingRaiseSerializer(serializers.Serializer):  # type: ignore[type-arg]

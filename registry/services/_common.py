@@ -25,6 +25,14 @@ def validated_save(instance: ModelT, *, by: Person | None) -> ModelT:
     return instance
 
 
+def lock(record: ModelT, *fields: str) -> ModelT:
+    """Lock ``record``'s row until the transaction ends and re-read ``fields`` (its state), so
+    that a workflow step checks the state no concurrent step can change under it."""
+    type(record)._default_manager.select_for_update().filter(pk=record.pk).first()
+    record.refresh_from_db(fields=list(fields))
+    return record
+
+
 def require_transition(record: models.Model, *, current: str, target: str,
                        allowed: Mapping[str, frozenset[str]]) -> None:
     if target not in allowed.get(current, frozenset()):

@@ -209,7 +209,9 @@ ROWS: dict[str, Row] = {
         LSO_WRITE, needs_if_match=True),
     "audit start": Row("post", f"{V}/audits/{{id}}/start/", lambda w: w.planned_audit.pk, lambda w: {}, LSO_WRITE),
     "audit answer": Row("post", f"{V}/audits/{{id}}/answer/", lambda w: w.running_audit.pk,
-                        lambda w: {"position": 1, "answer": "no", "comment": "One dump missing."}, LSO_WRITE),
+                        lambda w: {"position": 1, "answer": "fail", "comment": "One dump missing.", "finding": {
+                            "severity": "minor", "corrective_action": "Fit a dump.", "owner": w.owner.pk,
+                            "due_on": "2027-01-31"}}, LSO_WRITE),
     "audit raise finding": Row("post", f"{V}/audits/{{id}}/findings/", lambda w: w.running_audit.pk, lambda w: {
         "severity": "major", "description": "Interlock bypassed.", "owner": w.owner.pk}, LSO_CREATE),
     "audit sign off": Row("post", f"{V}/audits/{{id}}/sign-off/", lambda w: w.answered_audit.pk,
