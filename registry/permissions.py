@@ -216,7 +216,7 @@ def _edit(*roles: str, on_object: ObjectCheck | None = None) -> dict[str, Rule]:
     return {"update": rule, "partial_update": rule}
 
 
-LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO), **_edit(LSO)})
+LOCATIONS = Policy({**_read(*_READERS), "sign": allow(*_READERS), "create": allow(LSO), **_edit(LSO)})
 
 LASERS = Policy({
     **_read(*_READERS),
@@ -229,6 +229,7 @@ LASERS = Policy({
     "approve": allow(LSO),
     "send_back": allow(LSO),
     "change_status": allow(LSO),
+    "label": allow(*_READERS),
 })
 
 EMISSIONS = Policy({
@@ -286,6 +287,8 @@ EYEWEAR = Policy({**_read(*_READERS), "create": allow(LSO), "inspect": allow(LSO
 
 AUDITS = Policy({
     **_read(LSO, INSPECTOR),
+    "report_pdf": allow(LSO, INSPECTOR),
+    "report_json": allow(LSO, INSPECTOR),
     "create": allow(LSO),
     "start": allow(LSO),
     "answer": allow(LSO),

@@ -204,6 +204,7 @@ class EyewearMatrix:
 
     location: Location
     limits: str
+    lasers: list[Laser]
     emissions: list[Emission]
     eyewear: list[Eyewear]
     cells: dict[tuple[int, int], Adequacy]
@@ -220,7 +221,7 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None) ->
     The lasers are those in the register's care in the room (every status but disposed and transferred).
     """
     chosen = limits or register_limits()
-    lasers = laser_list().filter(location=location).exclude(status__in=RETIRED_STATUSES)
+    lasers = list(laser_list().filter(location=location).exclude(status__in=RETIRED_STATUSES))
     items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
     bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
     emissions: list[Emission] = []
@@ -245,7 +246,7 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None) ->
                             for item in items if item.condition != EyewearCondition.DAMAGED)
             if result.od_required > 0 and not protected:
                 unprotected.append(emission)
-    return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
+    return EyewearMatrix(location=location, limits=chosen, lasers=lasers, emissions=emissions, eyewear=items, cells=cells,
                          not_assessed=not_assessed, unprotected=unprotected)
 
 

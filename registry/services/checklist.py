@@ -31,33 +31,39 @@ _CONTROL_MEASURE_TABLE = "ANSI Z136.1, control measures by laser class"
 class Control:
     code: str
     about: Literal["laser", "location"]
+    heading: str  # a column heading in the printed report
     question: str
     classes: frozenset[str]
     source: str
 
 
 CONTROLS: tuple[Control, ...] = (
-    Control("signs_posted", "location", "Warning sign at every entrance, listing the lasers now in the room",
-            ABOVE_CLASS_2, f"{_CONTROL_MEASURE_TABLE} (area signs: required for 3B and 4, advised for 2 to 3R)"),
-    Control("entry_controls_tested", "location", "Entry interlocks and warning lights tested and working",
-            HAZARDOUS, f"{_CONTROL_MEASURE_TABLE} (laser controlled area and emission warning)"),
-    Control("eyewear_adequate", "location",
-            "Eyewear for every wavelength in the room, adequate for it and in good condition",
-            HAZARDOUS, f"{_CONTROL_MEASURE_TABLE} (protective eyewear); EN 207 for the marking"),
-    Control("registered", "laser", "Registered: class, emissions, owner and room in the register match the laser",
-            HAZARDOUS, f"{_CONTROL_MEASURE_TABLE} (registration with the LSO)"),
-    Control("labelled", "laser", "Class label (and aperture label from class 3R up) on the laser and legible",
+    Control("signs_posted", "location", "Signs",
+            "Warning sign at every entrance, listing the lasers now in the room", ABOVE_CLASS_2,
+            f"{_CONTROL_MEASURE_TABLE} (area signs: required for 3B and 4, advised for 2 to 3R)"),
+    Control("entry_controls_tested", "location", "Entry controls",
+            "Entry interlocks and warning lights tested and working", HAZARDOUS,
+            f"{_CONTROL_MEASURE_TABLE} (laser controlled area and emission warning)"),
+    Control("eyewear_adequate", "location", "Eyewear",
+            "Eyewear for every wavelength in the room, adequate for it and in good condition", HAZARDOUS,
+            f"{_CONTROL_MEASURE_TABLE} (protective eyewear); EN 207 for the marking"),
+    Control("registered", "laser", "Registered",
+            "Registered: class, emissions, owner and room in the register match the laser", HAZARDOUS,
+            f"{_CONTROL_MEASURE_TABLE} (registration with the LSO)"),
+    Control("labelled", "laser", "Labels",
+            "Class label (and aperture label from class 3R up) on the laser and legible",
             frozenset({"1M"}) | ABOVE_CLASS_2, "IEC 60825-1, labelling of laser products"),
-    Control("sop_current", "laser", "SOP approved and within its review date", HAZARDOUS,
+    Control("sop_current", "laser", "SOP", "SOP approved and within its review date", HAZARDOUS,
             f"{_CONTROL_MEASURE_TABLE} (written SOP: required for 4, advised for 3B)"),
-    Control("users_authorized", "laser", "Every user authorized on this laser, with valid laser safety training",
-            HAZARDOUS, f"{_CONTROL_MEASURE_TABLE} (training and authorized users)"),
-    Control("users_briefed", "laser", "Users briefed on the precautions of the laser's class",
+    Control("users_authorized", "laser", "Users authorized",
+            "Every user authorized on this laser, with valid laser safety training", HAZARDOUS,
+            f"{_CONTROL_MEASURE_TABLE} (training and authorized users)"),
+    Control("users_briefed", "laser", "Users briefed", "Users briefed on the precautions of the laser's class",
             frozenset({"2", "2M", "3R"}), f"{_CONTROL_MEASURE_TABLE} (training: advised for 2 to 3R)"),
-    Control("beams_terminated", "laser", "Beam paths enclosed or ended in a beam stop",
+    Control("beams_terminated", "laser", "Beams ended", "Beam paths enclosed or ended in a beam stop",
             frozenset({"3R"}) | HAZARDOUS,
             f"{_CONTROL_MEASURE_TABLE} (beam stop: required for 4, advised for 3R and 3B)"),
-    Control("key_controlled", "laser", "Key switch in use, the key kept by an authorized user", HAZARDOUS,
+    Control("key_controlled", "laser", "Key", "Key switch in use, the key kept by an authorized user", HAZARDOUS,
             f"{_CONTROL_MEASURE_TABLE} (key control: required for 4, advised for 3B)"),
 )
 CONTROLS_BY_CODE = {control.code: control for control in CONTROLS}
