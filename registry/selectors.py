@@ -159,6 +159,12 @@ def audit_scope_lasers(audit: Audit) -> QuerySet[Laser]:
     return lasers.filter(location__site=audit.site) if audit.site else lasers.filter(location__isnull=False)
 
 
+def audits_signed_off_between(start: datetime.date, end: datetime.date) -> QuerySet[Audit]:
+    """Unretired audits signed off from ``start`` to ``end`` (inclusive, local dates), oldest first."""
+    return audit_list().filter(status=AuditStatus.SIGNED_OFF, retired_at__isnull=True,
+                               signed_off_at__date__gte=start, signed_off_at__date__lte=end).order_by("signed_off_at")
+
+
 def lso_contacts() -> QuerySet[Person]:
     """The laser safety officers a sign or report names as the contact."""
     return person_list().filter(role=Role.LSO, user__is_active=True)

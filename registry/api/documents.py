@@ -70,6 +70,6 @@ def document_query(request: Request, *, paper: bool) -> tuple[datetime.datetime,
 
 
 def pdf_response(document: Document) -> HttpResponse:
-    response = HttpResponse(document.to_pdf(), content_type="application/pdf")
+    response = HttpResponse(document.to_pdf().data, content_type="application/pdf")
     response["Content-Disposition"] = f'inline; filename="{document.filename}"'
     return response

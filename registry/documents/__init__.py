@@ -7,11 +7,12 @@ from __future__ import annotations
 from registry.documents.pdf import (
     Document,
     Paper,
+    Pdf,
     render_audit_report,
     render_door_sign,
     render_laser_label,
     render_pre_audit_pack,
 )
 
-__all__ = ["Document", "Paper", "render_audit_report", "render_door_sign", "render_laser_label",
+__all__ = ["Document", "Paper", "Pdf", "render_audit_report", "render_door_sign", "render_laser_label",
            "render_pre_audit_pack"]

@@ -161,7 +161,7 @@ class DoorSign:
 
 
 def door_sign(location: Location, *, limits: str | None = None) -> DoorSign:
-    """The door sign of ``location`` (five queries: the room's eyewear matrix and the LSOs)."""
+    """The door sign of ``location`` (six queries: the room's eyewear matrix and the LSOs)."""
     matrix = selectors.location_eyewear_matrix(location=location, limits=limits)
     classes = [laser.effective_class for laser in matrix.lasers]
     highest = _highest(classes)

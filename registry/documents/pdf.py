@@ -36,15 +36,22 @@ _PAGE_SIZES = {Paper.A4: "A4", Paper.LETTER: "letter"}
 
 
 @dataclass(frozen=True)
+class Pdf:
+    data: bytes
+    pages: int
+
+
+@dataclass(frozen=True)
 class Document:
     html: str
     filename: str
 
-    def to_pdf(self) -> bytes:
+    def to_pdf(self) -> Pdf:
         # Imported here: WeasyPrint takes most of a second to import, and only rendering needs it.
         from weasyprint import HTML
 
-        return HTML(string=self.html, base_url=str(settings.BASE_DIR)).write_pdf()  # type: ignore[no-any-return]
+        laid_out = HTML(string=self.html, base_url=str(settings.BASE_DIR)).render()
+        return Pdf(data=laid_out.write_pdf(), pages=len(laid_out.pages))
 
 
 def _render(name: str, filename: str, *, generated_at: datetime.datetime, paper: Paper | None,
