@@ -9,7 +9,10 @@ expired), two pairs of goggles per room, and a site audit in progress whose chec
 control measures of every laser and room, about 3,100 items) is answered, ten of them failed
 with findings. Then renders each document ``--runs`` times and prints, per document, the
 median seconds to read the register and fill the template (HTML), to lay out and write the
-PDF, the page count, pages per second and the queries made.
+PDF, the page count, pages per second and the queries made. The machine is shared, so the
+same run also renders a reference (a plain 500-row, 5-column table, straight to WeasyPrint)
+and prints each document's time as a multiple of it: a ratio that moves far less with the
+machine's load than the seconds do.
 
 Run from the project root: ``python bench/documents.py [--runs 3]``.
 """
@@ -134,7 +137,27 @@ def _seed() -> tuple[int, int]:
     return audit.pk, rooms[0].pk
 
 
-def _measure(label: str, render: object, runs: int) -> None:
+REFERENCE_ROWS = "".join(
+    f"<tr><td>Row {number}</td><td>{number * 3.1:.1f} mW</td><td>532 nm</td><td>OD {number % 7}</td>"
+    f"<td>Cell text {number}</td></tr>" for number in range(500))
+REFERENCE = ("<html><head><style>@page { size: A4; @bottom-center { content: counter(page) } } "
+             "table { width: 100%; border-collapse: collapse } td { border-bottom: 1px solid #999 }</style>"
+             "</head><body><table><thead><tr><th>A</th><th>B</th><th>C</th><th>D</th><th>E</th></tr></thead>"
+             f"<tbody>{REFERENCE_ROWS}</tbody></table></body></html>")
+
+
+def _reference(runs: int) -> float:
+    from weasyprint import HTML
+
+    seconds = []
+    for _ in range(runs):
+        started = time.perf_counter()
+        HTML(string=REFERENCE).write_pdf()
+        seconds.append(time.perf_counter() - started)
+    return statistics.median(seconds)
+
+
+def _measure(label: str, render: object, runs: int, reference: float) -> None:
     from django.db import connection
     from django.test.utils import CaptureQueriesContext
 
@@ -150,8 +173,8 @@ def _measure(label: str, render: object, runs: int) -> None:
         pages, queries = pdf.pages, len(captured)
     html, laid_out = statistics.median(html_seconds), statistics.median(pdf_seconds)
     total = html + laid_out
-    print(f"{label:<34} {html:6.2f} s HTML + {laid_out:6.2f} s PDF = {total:6.2f} s; {pages:4d} pages, "
-          f"{pages / total:5.1f} pages/s; {queries} queries")
+    print(f"{label:<34} {html:6.2f} s HTML + {laid_out:6.2f} s PDF = {total:6.2f} s "
+          f"({total / reference:4.1f} x reference); {pages:4d} pages, {pages / total:5.1f} pages/s; {queries} queries")
 
 
 def main() -> None:
@@ -169,11 +192,14 @@ def main() -> None:
 
         # The first render in a process also loads WeasyPrint and the fonts; it is not counted.
         render_door_sign(Location.objects.get(pk=room_pk), generated_at=GENERATED_AT).to_pdf()
+        reference = _reference(options.runs)
+        print(f"{'reference: 500 x 5 table':<34} {reference:6.2f} s")
         _measure(f"audit report, {ROOMS * LASERS_PER_ROOM} lasers",
                  lambda: render_audit_report(Audit.objects.get(pk=audit_pk), generated_at=GENERATED_AT),
-                 options.runs)
+                 options.runs, reference)
         _measure(f"door sign, {LASERS_PER_ROOM}-laser room",
-                 lambda: render_door_sign(Location.objects.get(pk=room_pk), generated_at=GENERATED_AT), options.runs)
+                 lambda: render_door_sign(Location.objects.get(pk=room_pk), generated_at=GENERATED_AT), options.runs,
+                 reference)
 
 
 if __name__ == "__main__":

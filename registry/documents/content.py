@@ -18,10 +18,13 @@ from hazards.classes import LASER_CLASSES
 from registry import selectors
 from registry.models import (
     GENERAL_COURSES,
+    RETIRED_STATUSES,
     Audit,
+    AuditChecklistItem,
     AuditScope,
     AuthorizationStatus,
     Authorization,
+    ChecklistAnswer,
     Emission,
     EyewearCondition,
     Eyewear,
@@ -156,8 +159,15 @@ class DoorSign:
     caution: str = CAUTION
 
     @property
-    def unprotected_lines(self) -> list[WavelengthLine]:
-        return [line for line in self.lines if line.unprotected]
+    def heading(self) -> str:
+        """The signal word; a room whose classes call for none is headed plainly."""
+        return self.signal_word or "LASER"
+
+    @property
+    def subheading(self) -> str:
+        if self.signal_word is None:
+            return "No class in this room calls for a warning sign"
+        return "Laser controlled area" if self.location.is_controlled_area else "Laser in use"
 
 
 def door_sign(location: Location, *, limits: str | None = None) -> DoorSign:
@@ -228,6 +238,26 @@ class PersonRow:
 
 
 @dataclass(frozen=True)
+class LaserPeople:
+    """The authorizations on one laser, for the printed table (one row per laser)."""
+
+    laser: Laser
+    rows: list[PersonRow]
+
+    @property
+    def flagged(self) -> list[PersonRow]:
+        return [row for row in self.rows if row.flags]
+
+
+@dataclass(frozen=True)
+class WarningGroup:
+    """One warning of the engine, or one reason an emission is not assessed, with the emissions it concerns."""
+
+    text: str
+    emissions: list[HazardRow]
+
+
+@dataclass(frozen=True)
 class RoomEyewear:
     location: Location
     eyewear: list[Eyewear]
@@ -250,14 +280,17 @@ class ChecklistRow:
 class ChecklistGrid:
     """The answers laid out for print: rooms x room controls and lasers x laser controls.
 
-    ``cells[row key][control code]`` is the answer label; a control a row's class does not
-    call for has no cell. ``notes`` are the rows with a note, in checklist order.
+    Rows whose every answer is a pass are only named (``rooms_passed``, ``lasers_passed``), so a
+    site's report shows in full what needs a look. ``cells[control code]`` is a row's answer; a
+    control the row's class does not call for has no cell. ``notes`` are the items with a note.
     """
 
     room_controls: list[Control]
     laser_controls: list[Control]
     rooms: list[tuple[Location, dict[str, str]]]
     lasers: list[tuple[Laser, dict[str, str]]]
+    rooms_passed: list[Location]
+    lasers_passed: list[Laser]
     questions: list[ChecklistRow]
     notes: list[ChecklistRow]
 
@@ -291,23 +324,33 @@ class AuditReport:
     checklist: list[ChecklistRow]
     grid: ChecklistGrid
     findings: list[Finding]
-    warnings: list[str]
+    warnings: list[WarningGroup]
     caution: str = CAUTION
 
     @property
     def flagged_count(self) -> int:
         return sum(1 for row in self.people if row.flags)
 
+    @property
+    def people_by_laser(self) -> list[LaserPeople]:
+        grouped: dict[int, LaserPeople] = {}
+        for row in self.people:
+            grouped.setdefault(row.laser.pk, LaserPeople(laser=row.laser, rows=[])).rows.append(row)
+        return list(grouped.values())
+
 
 def audit_report(audit: Audit, *, as_of: datetime.date, limits: str | None = None) -> AuditReport:
     """The report of ``audit``: its plan, the register of its scope as on ``as_of``, its checklist
-    and findings. Queries grow with the rooms in scope (four per room), not with the lasers."""
+    and findings. Eight queries, and two per room in scope (its eyewear); three more per room
+    for an audit of selected lasers, whose rooms may hold others."""
     chosen = limits or selectors.register_limits()
     lasers = list(selectors.audit_scope_lasers(audit))
-    items = audit.checklist.filter(retired_at__isnull=True).select_related("laser", "location").order_by("position")
+    items = list(audit.checklist.filter(retired_at__isnull=True).order_by("position"))
+    lasers_by_pk, rooms_by_pk = _checklist_subjects(items, lasers)
     checklist = [ChecklistRow(position=item.position, question=item.question,
-                              control=CONTROLS_BY_CODE.get(item.control), laser=item.laser, location=item.location,
-                              answer=item.answer, answer_label=str(item.get_answer_display()), comment=item.comment)
+                              control=CONTROLS_BY_CODE.get(item.control), laser=lasers_by_pk.get(item.laser_id),
+                              location=rooms_by_pk.get(item.location_id), answer=item.answer,
+                              answer_label=str(item.get_answer_display()), comment=item.comment)
                  for item in items]
     findings = list(selectors.finding_list().filter(audit=audit, retired_at__isnull=True)
                     .order_by("status", "due_on", "pk"))
@@ -318,8 +361,23 @@ def audit_report(audit: Audit, *, as_of: datetime.date, limits: str | None = Non
         planned_on=audit.planned_on, conducted_on=audit.conducted_on, status=audit.status,
         status_label=str(audit.get_status_display()), summary=audit.summary, signed_off_by=audit.signed_off_by,
         signed_off_at=audit.signed_off_at, as_of=as_of, limits=chosen, lasers=lasers, checklist=checklist,
-        findings=findings,
+        findings=findings, rooms_hold_only_scope=audit.scope != AuditScope.LASERS,
     )
+
+
+def _checklist_subjects(items: Sequence[AuditChecklistItem], lasers: Sequence[Laser],
+                        ) -> tuple[dict[int, Laser], dict[int, Location]]:
+    """The lasers and rooms the checklist items are about, from the scope already loaded; those no
+    longer in scope (a laser since disposed of, a plan changed after the start) cost one query each kind."""
+    lasers_by_pk = {laser.pk: laser for laser in lasers}
+    rooms_by_pk = {laser.location.pk: laser.location for laser in lasers if laser.location is not None}
+    missing_lasers = {item.laser_id for item in items if item.laser_id is not None} - set(lasers_by_pk)
+    if missing_lasers:
+        lasers_by_pk.update(Laser.objects.in_bulk(missing_lasers))
+    missing_rooms = {item.location_id for item in items if item.location_id is not None} - set(rooms_by_pk)
+    if missing_rooms:
+        rooms_by_pk.update(Location.objects.in_bulk(missing_rooms))
+    return lasers_by_pk, rooms_by_pk
 
 
 def pre_audit_pack(location: Location, *, as_of: datetime.date, limits: str | None = None) -> AuditReport:
@@ -337,22 +395,25 @@ def pre_audit_pack(location: Location, *, as_of: datetime.date, limits: str | No
         scope_label=str(AuditScope.LOCATION.label), site=location.site, location=location, period_start=None,
         period_end=None, auditor=None, planned_on=None, conducted_on=None, status="due", status_label="due",
         summary="", signed_off_by=None, signed_off_at=None, as_of=as_of, limits=chosen, lasers=lasers,
-        checklist=checklist, findings=findings,
+        checklist=checklist, findings=findings, rooms_hold_only_scope=True,
     )
 
 
 def _report(*, lasers: list[Laser], limits: str, as_of: datetime.date, checklist: list[ChecklistRow],
-            **fields: object) -> AuditReport:
+            rooms_hold_only_scope: bool, **fields: object) -> AuditReport:
     hazards = [HazardRow(laser=laser, emission=emission, result=result_under(emission, limits))
                for laser in lasers for emission in laser.current_emissions]
-    warnings = [f"{row.laser.asset_tag}, {row.emission.label or 'emission'}: {warning}"
-                for row in hazards if row.result is not None for warning in row.result.warnings]
-    warnings += [f"{row.laser.asset_tag}, {row.emission.label or 'emission'}: not assessed. "
-                 f"{row.emission.assessment_problem or 'No result under this limit set.'}"
-                 for row in hazards if row.result is None]
+    # A site repeats the same few warnings over hundreds of emissions: each is printed once.
+    warnings: dict[str, WarningGroup] = {}
+    for row in hazards:
+        texts = row.result.warnings if row.result is not None else [
+            f"Not assessed: {row.emission.assessment_problem or 'no result under this limit set.'}"]
+        for text in texts:
+            warnings.setdefault(text, WarningGroup(text=text, emissions=[])).emissions.append(row)
     return AuditReport(
         lasers=lasers, limits=limits, as_of=as_of, hazards=hazards, people=_people(lasers, as_of=as_of),
-        rooms=_rooms(lasers, limits=limits), warnings=warnings, contacts=list(selectors.lso_contacts()),
+        rooms=_rooms(lasers, limits=limits, whole_rooms=rooms_hold_only_scope), warnings=list(warnings.values()),
+        contacts=list(selectors.lso_contacts()),
         checklist=checklist, grid=checklist_grid(checklist), **fields,  # type: ignore[arg-type]
     )
 
@@ -360,14 +421,15 @@ def _report(*, lasers: list[Laser], limits: str, as_of: datetime.date, checklist
 def _people(lasers: Sequence[Laser], *, as_of: datetime.date) -> list[PersonRow]:
     """Authorizations on ``lasers`` that are approved or awaiting approval, with general training (two queries)."""
     by_pk = {laser.pk: laser for laser in lasers}
-    authorizations = list(selectors.authorization_list().filter(
+    # Only the person is joined: the lasers are the scope's, already loaded.
+    authorizations = list(Authorization.objects.select_related("person__user").filter(
         laser__in=list(by_pk), retired_at__isnull=True,
         status__in=[AuthorizationStatus.APPROVED, AuthorizationStatus.REQUESTED],
     ).order_by("laser__asset_tag", "person__user__last_name", "person__user__first_name"))
     training: dict[int, list[TrainingRecord]] = {}
     for record in TrainingRecord.objects.filter(
             person__in={authorization.person_id for authorization in authorizations}, course__in=GENERAL_COURSES,
-            retired_at__isnull=True, completed_on__lte=as_of):
+            retired_at__isnull=True, completed_on__lte=as_of).only("person_id", "valid_until"):
         training.setdefault(record.person_id, []).append(record)
     rows: list[PersonRow] = []
     for authorization in authorizations:
@@ -390,11 +452,20 @@ def _people(lasers: Sequence[Laser], *, as_of: datetime.date) -> list[PersonRow]
     return rows
 
 
-def _rooms(lasers: Sequence[Laser], *, limits: str) -> list[RoomEyewear]:
-    rooms = {laser.location.pk: laser.location for laser in lasers if laser.location is not None}
+def _rooms(lasers: Sequence[Laser], *, limits: str, whole_rooms: bool) -> list[RoomEyewear]:
+    """Eyewear adequacy of each room of ``lasers``; ``whole_rooms``: they are every laser in the
+    register's care in their rooms (a room or site scope), so the matrix need not load them again."""
+    by_room: dict[int, list[Laser]] = {}
+    rooms: dict[int, Location] = {}
+    for laser in lasers:
+        if laser.location is not None:
+            rooms[laser.location.pk] = laser.location
+            if laser.status not in RETIRED_STATUSES:
+                by_room.setdefault(laser.location.pk, []).append(laser)
     report: list[RoomEyewear] = []
     for room in sorted(rooms.values(), key=lambda room: (room.site, room.building, room.room)):
-        matrix = selectors.location_eyewear_matrix(location=room, limits=limits)
+        matrix = selectors.location_eyewear_matrix(location=room, limits=limits,
+                                                   lasers_in_room=by_room.get(room.pk, []) if whole_rooms else None)
         report.append(RoomEyewear(location=room, eyewear=matrix.eyewear, lines=wavelength_lines(matrix)))
     return report
 
@@ -411,11 +482,15 @@ def checklist_grid(rows: Sequence[ChecklistRow]) -> ChecklistGrid:
         elif row.location is not None:
             room_cells.setdefault(row.location.pk, (row.location, {}))[1][row.control.code] = _grid_answer(row)
     used = {row.control.code for row in rows if row.control is not None}
+    passed = str(ChecklistAnswer.PASS.label)
     return ChecklistGrid(
         room_controls=[control for control in CONTROLS if control.about == "location" and control.code in used],
         laser_controls=[control for control in CONTROLS if control.about == "laser" and control.code in used],
-        rooms=list(room_cells.values()), lasers=list(laser_cells.values()), questions=questions,
-        notes=[row for row in rows if row.comment],
+        rooms=[cells for cells in room_cells.values() if set(cells[1].values()) != {passed}],
+        lasers=[cells for cells in laser_cells.values() if set(cells[1].values()) != {passed}],
+        rooms_passed=[room for room, answers in room_cells.values() if set(answers.values()) == {passed}],
+        lasers_passed=[laser for laser, answers in laser_cells.values() if set(answers.values()) == {passed}],
+        questions=questions, notes=[row for row in rows if row.comment],
     )
 
 

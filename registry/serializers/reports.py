@@ -9,7 +9,7 @@ from typing import Any
 
 from rest_framework import serializers
 
-from registry.documents.content import ChecklistRow, WavelengthLine
+from registry.documents.content import ChecklistRow, WarningGroup, WavelengthLine
 from registry.serializers.audits import FindingSerializer
 from registry.serializers.fields import QuantityField
 
@@ -164,6 +164,14 @@ class ReportChecklistSerializer(_ReadOnly):
         return row.control.source if row.control is not None else ""
 
 
+class ReportWarningSerializer(_ReadOnly):
+    text = serializers.CharField()
+    emissions = serializers.SerializerMethodField(help_text="Ids of the emissions it concerns.")
+
+    def get_emissions(self, group: WarningGroup) -> list[int]:
+        return [row.emission.pk for row in group.emissions]
+
+
 class AuditReportSerializer(_ReadOnly):
     """Every section of the printed report, for processing."""
 
@@ -191,5 +199,5 @@ class AuditReportSerializer(_ReadOnly):
     rooms = ReportRoomSerializer(many=True, help_text="Eyewear adequacy per room.")
     checklist = ReportChecklistSerializer(many=True)
     findings = FindingSerializer(many=True)
-    warnings = serializers.ListField(child=serializers.CharField(), help_text="The engine's warnings per emission.")
+    warnings = ReportWarningSerializer(many=True, help_text="Each warning of the engine once, with its emissions.")
     caution = serializers.CharField()

@@ -25,6 +25,7 @@ from hazards.units import format_for_people
 from registry import selectors
 from registry.documents import Paper, render_audit_report, render_door_sign, render_laser_label, render_pre_audit_pack
 from registry.models import HazardResult
+from tests import factories
 from tests.registry.documents_world import DocumentsWorld, build_documents_world
 
 GENERATED_AT = datetime.datetime(2026, 12, 1, 9, 30, tzinfo=datetime.timezone.utc)
@@ -101,6 +102,14 @@ class DoorSignTests(TestCase):
         with override_settings(SIGNAL_WORDS={**settings.SIGNAL_WORDS, "4": "WARNING"}):
             html = render_door_sign(self.world.room, generated_at=GENERATED_AT).html
         self.assertIn('<div class="signal-word">WARNING</div>', html)
+
+    def test_a_room_whose_classes_call_for_no_signal_word_says_so(self) -> None:
+        room = factories.LocationFactory.create(code="quiet-1")
+        factories.LaserFactory.create(labelled_class="1", location=room)
+        html = flat(render_door_sign(room, generated_at=GENERATED_AT).html)
+        self.assertIn('<div class="signal-word">LASER</div>', html)
+        self.assertIn("No class in this room calls for a warning sign", html)
+        self.assertIn("Class 1 laser product: safe in normal use.", html)
 
     def test_a_sign_comes_on_a4_and_on_us_letter_on_one_page(self) -> None:
         for paper, size in ((Paper.A4, A4_POINTS), (Paper.LETTER, LETTER_POINTS)):
@@ -186,9 +195,9 @@ class AuditReportTests(TestCase):
         lapsed_on = self.world.training_expires_on
         document = render_audit_report(self.world.audit, generated_at=after_expiry)
         html = flat(document.html)
-        row = re.search(r"<tr><td>Lars Fenn</td>(.*?)</tr>", html).group(1)
-        self.assertIn(f"training expired on {lapsed_on:%Y-%m-%d}", row)
-        self.assertNotIn("expired", re.search(r"<tr><td>Cora Mill</td>(.*?)</tr>", html).group(1))
+        people = re.search(r"<tr><td>YAG-1</td>\s*<td>(.*?)</td>\s*<td class=\"flag\">(.*?)</td></tr>", html)
+        self.assertIn("Lars Fenn: approved, training " + f"{lapsed_on:%Y-%m-%d}", people.group(1))
+        self.assertEqual(people.group(2), f"Lars Fenn: training expired on {lapsed_on:%Y-%m-%d}")
         self.assertIn(f"training expired on {lapsed_on:%Y-%m-%d}", flat(pdf_text(document.to_pdf().data)[0]))
         # Before it lapses nothing is flagged.
         self.assertNotIn("training expired", render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
@@ -209,10 +218,10 @@ class AuditReportTests(TestCase):
         self.assertEqual(page_size(first.data), LETTER_POINTS)
 
     def test_the_report_reads_the_register_in_queries_that_grow_with_rooms_not_lasers(self) -> None:
-        # laser_list for the scope (lasers, emissions, results); checklist with lasers and rooms; findings;
-        # authorizations; general training; the LSOs; then the room's eyewear matrix (lasers,
-        # emissions, results, eyewear, markings).
-        with self.assertNumQueries(13):
+        # The scope's lasers, their emissions, the emissions' results; the checklist; the findings
+        # (owner, account, laser, room joined); the authorizations (person and account joined);
+        # general training; the LSOs; then the room's eyewear and its markings.
+        with self.assertNumQueries(10):
             render_audit_report(self.world.audit, generated_at=GENERATED_AT)
 
     def test_a_pre_audit_pack_lists_the_checks_the_room_calls_for_unanswered(self) -> None:
