@@ -185,7 +185,8 @@ def main() -> None:
         _setup_django(f"sqlite:///{Path(folder) / 'bench.sqlite3'}")
         started = time.perf_counter()
         audit_pk, room_pk = _seed()
-        print(f"seeded {ROOMS} rooms x {LASERS_PER_ROOM} lasers in {time.perf_counter() - started:.1f} s")
+        print(f"seeded {ROOMS} rooms x {LASERS_PER_ROOM} lasers in {time.perf_counter() - started:.1f} s; "
+              f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
 
         from registry.documents import render_audit_report, render_door_sign
         from registry.models import Audit, Location
