@@ -401,7 +401,10 @@ class AuditChecklistItemInline(admin.TabularInline):
     model = AuditChecklistItem
     form = RegisterForm
     extra = 0
-    fields = ["position", "question", "answer", "comment"]
+    fields = ["position", "question", "control", "laser", "location", "answer", "comment"]
+    # Answers go through audit_answer (the API), where a failure raises its finding; items drawn
+    # from the control measures are the register's, not typed here.
+    readonly_fields = ["control", "laser", "location", "answer", "comment"]
     can_delete = False
 
 
@@ -430,9 +433,10 @@ class AuditAdmin(RetainedAdmin):
 @admin.register(AuditChecklistItem)
 class AuditChecklistItemAdmin(RetainedAdmin):
     list_display = ["audit", "position", "question", "answer"]
-    list_filter = ["answer"]
+    list_filter = ["answer", "control"]
     search_fields = ["audit__reference", "question"]
     list_select_related = ["audit"]
+    readonly_fields = ["control", "laser", "location", "answer", "comment"]
 
 
 @admin.register(Finding)

@@ -236,7 +236,7 @@ def _edit(*roles: str, on_object: ObjectCheck | None = None) -> dict[str, Rule]:
     return {"update": rule, "partial_update": rule}
 
 
-LOCATIONS = Policy({**_read(*_READERS), "create": allow(LSO), **_edit(LSO)})
+LOCATIONS = Policy({**_read(*_READERS), "sign": allow(*_READERS), "create": allow(LSO), **_edit(LSO)})
 
 LASERS = Policy({
     # A laser user reads the lasers they are authorized on, with their figures (scope below).
@@ -250,6 +250,7 @@ LASERS = Policy({
     "approve": allow(LSO),
     "send_back": allow(LSO),
     "change_status": allow(LSO),
+    "label": allow(*_READERS),
 }, scope={USER: _authorized_lasers})
 
 EMISSIONS = Policy({
@@ -308,6 +309,8 @@ EYEWEAR = Policy({**_read(*_READERS), "create": allow(LSO), "inspect": allow(LSO
 
 AUDITS = Policy({
     **_read(LSO, INSPECTOR),
+    "report_pdf": allow(LSO, INSPECTOR),
+    "report_json": allow(LSO, INSPECTOR),
     "create": allow(LSO),
     "start": allow(LSO),
     "answer": allow(LSO),

@@ -200,6 +200,30 @@ def audit_list() -> QuerySet[Audit]:
     )
 
 
+def audit_scope_lasers(audit: Audit) -> QuerySet[Laser]:
+    """The lasers ``audit`` covers, as ``laser_list()`` loads them: those chosen for a laser audit;
+    for a room or a site, those in the register's care there (every status but disposed and
+    transferred; a site audit without a site name covers every room)."""
+    lasers = laser_list().order_by("location__site", "location__building", "location__room", "asset_tag")
+    if audit.scope == AuditScope.LASERS:
+        return lasers.filter(audits=audit)
+    lasers = lasers.exclude(status__in=RETIRED_STATUSES)
+    if audit.scope == AuditScope.LOCATION:
+        return lasers.filter(location_id=audit.location_id)
+    return lasers.filter(location__site=audit.site) if audit.site else lasers.filter(location__isnull=False)
+
+
+def audits_signed_off_between(start: datetime.date, end: datetime.date) -> QuerySet[Audit]:
+    """Unretired audits signed off from ``start`` to ``end`` (inclusive, local dates), oldest first."""
+    return audit_list().filter(status=AuditStatus.SIGNED_OFF, retired_at__isnull=True,
+                               signed_off_at__date__gte=start, signed_off_at__date__lte=end).order_by("signed_off_at")
+
+
+def lso_contacts() -> QuerySet[Person]:
+    """The laser safety officers a sign or report names as the contact."""
+    return person_list().filter(role=Role.LSO, user__is_active=True)
+
+
 def finding_list() -> QuerySet[Finding]:
     return Finding.objects.select_related("audit", "laser", "location", "owner__user", "closed_by__user")
 
@@ -246,6 +270,7 @@ class EyewearMatrix:
 
     location: Location
     limits: str
+    lasers: list[Laser]
     emissions: list[Emission]
     eyewear: list[Eyewear]
     cells: dict[tuple[int, int], Adequacy]
@@ -256,15 +281,21 @@ class EyewearMatrix:
 _VERDICT_SEVERITY = {"adequate": 0, "inadequate": 1, "not_covered": 2}
 
 
-def location_eyewear_matrix(*, location: Location, limits: str | None = None) -> EyewearMatrix:
+def location_eyewear_matrix(*, location: Location, limits: str | None = None,
+                             lasers_in_room: list[Laser] | None = None) -> EyewearMatrix:
     """The eyewear adequacy of ``location`` (five queries: lasers, emissions, results, eyewear, markings).
 
     The lasers are those in the register's care in the room (every status but disposed and transferred).
+    A caller that has loaded exactly those with ``laser_list()`` passes them as ``lasers_in_room``,
+    which saves their three queries.
     """
-    return room_hazards(locations=[location], limits=limits)[0].matrix
+    if lasers_in_room is None:
+        return room_hazards(locations=[location], limits=limits)[0].matrix
+    items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
+    return _eyewear_matrix(location, lasers_in_room, items, limits or register_limits())
 
 
-def _eyewear_matrix(location: Location, lasers: Iterable[Laser], items: list[Eyewear], chosen: str) -> EyewearMatrix:
+def _eyewear_matrix(location: Location, lasers: list[Laser], items: list[Eyewear], chosen: str) -> EyewearMatrix:
     bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
     emissions: list[Emission] = []
     not_assessed: list[Emission] = []
@@ -282,7 +313,7 @@ def _eyewear_matrix(location: Location, lasers: Iterable[Laser], items: list[Eye
                 cells[(emission.pk, item.pk)] = verdicts[item.pk]
             if result.od_required > 0 and not protects(verdicts, items):
                 unprotected.append(emission)
-    return EyewearMatrix(location=location, limits=chosen, emissions=emissions, eyewear=items, cells=cells,
+    return EyewearMatrix(location=location, limits=chosen, lasers=lasers, emissions=emissions, eyewear=items, cells=cells,
                          not_assessed=not_assessed, unprotected=unprotected)
 
 

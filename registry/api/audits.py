@@ -3,7 +3,9 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.http import HttpResponse
 from django.shortcuts import get_object_or_404
+from django.utils import timezone
 from drf_spectacular.utils import OpenApiResponse, extend_schema
 from rest_framework import serializers, status
 from rest_framework.decorators import action
@@ -12,6 +14,9 @@ from rest_framework.response import Response
 
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
+from registry.api.documents import GENERATED_AT, PAPER, PDF_RESPONSE, document_query, pdf_response
+from registry.documents import render_audit_report
+from registry.documents.content import audit_report
 from registry.api.errors import service_errors
 from registry.api.etags import UpdateWithETagMixin
 from registry.filters import FindingFilter, IncidentFilter
@@ -31,6 +36,7 @@ from registry.serializers.audits import (
     IncidentSerializer,
     IncidentUpdateSerializer,
 )
+from registry.serializers.reports import AuditReportSerializer
 from registry.services import audits as audit_services
 from registry.services import incidents as incident_services
 
@@ -103,6 +109,20 @@ class AuditViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Re
         with self.workflow_step() as (audit, values):
             audit = audit_services.audit_sign_off(audit=audit, by=self.person, **values)
         return self.respond_with(audit)
+
+    @extend_schema(operation_id="audits_report_pdf", parameters=[PAPER, GENERATED_AT], responses=PDF_RESPONSE,
+                   summary="The audit report (PDF): cover and sign-off, register snapshot, hazards, authorization "
+                           "and training, eyewear per room, checklist, findings, cautions")
+    def report_pdf(self, request: Request, pk: str | None = None) -> HttpResponse:
+        generated_at, paper = document_query(request, paper=True)
+        return pdf_response(render_audit_report(self.get_object(), generated_at=generated_at, paper=paper))
+
+    @extend_schema(operation_id="audits_report_json", parameters=[GENERATED_AT], responses=AuditReportSerializer,
+                   summary="The audit report as JSON: the PDF's sections, with SI figures")
+    def report_json(self, request: Request, pk: str | None = None) -> Response:
+        generated_at, _ = document_query(request, paper=False)
+        report = audit_report(self.get_object(), as_of=timezone.localdate(generated_at))
+        return Response(AuditReportSerializer(report).data)
 
 
 @retirable(FindingSerializer)

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.http import HttpResponse
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
 from rest_framework import serializers
 from rest_framework.decorators import action
@@ -11,6 +12,9 @@ from rest_framework.response import Response
 
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet
+from registry.api.documents import GENERATED_AT, PDF_RESPONSE, document_query, pdf_response
+from registry.documents import render_laser_label
+from registry.documents.content import laser_page_path
 from registry.api.errors import service_errors
 from registry.api.etags import UpdateWithETagMixin
 from registry.filters import EmissionFilter, HazardResultFilter, LaserFilter
@@ -64,6 +68,14 @@ class LaserViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
         with service_errors(serializer):
             return laser_services.laser_update(laser=serializer.instance, by=self.person,
                                                **serializer.validated_data)
+
+    @extend_schema(operation_id="lasers_label_pdf", parameters=[GENERATED_AT], responses=PDF_RESPONSE,
+                   summary="The laser's equipment label (PDF, 100 x 62 mm) with a QR code of its page")
+    def label(self, request: Request, pk: str | None = None) -> HttpResponse:
+        generated_at, _ = document_query(request, paper=False)
+        laser = self.get_object()
+        page_url = request.build_absolute_uri(laser_page_path(laser))
+        return pdf_response(render_laser_label(laser, page_url=page_url, generated_at=generated_at))
 
     @extend_schema(request=LaserReviewSerializer, responses={200: LaserSerializer, 409: _CONFLICT},
                    summary="Submit a returned registration for review again")

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.http import HttpResponse
 from drf_spectacular.utils import extend_schema
 from rest_framework import serializers
 from rest_framework.decorators import action
@@ -11,6 +12,8 @@ from rest_framework.response import Response
 
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
+from registry.api.documents import GENERATED_AT, PAPER, PDF_RESPONSE, document_query, pdf_response
+from registry.documents import render_door_sign
 from registry.api.errors import service_errors
 from registry.api.etags import UpdateWithETagMixin
 from registry.filters import EyewearFilter, LocationFilter
@@ -48,6 +51,13 @@ class LocationViewSet(CreateRecordMixin, UpdateWithETagMixin, RegisterViewSet):
         with service_errors(serializer):
             return eyewear_services.location_update(location=serializer.instance, by=self.person,
                                                     **serializer.validated_data)
+
+    @extend_schema(operation_id="locations_sign_pdf", parameters=[PAPER, GENERATED_AT], responses=PDF_RESPONSE,
+                   summary="The room's door sign (PDF): signal word, classes, wavelengths, eyewear, NOHD, entry "
+                           "rules and the LSO")
+    def sign(self, request: Request, pk: str | None = None) -> HttpResponse:
+        generated_at, paper = document_query(request, paper=True)
+        return pdf_response(render_door_sign(self.get_object(), generated_at=generated_at, paper=paper))
 
 
 @retirable(EyewearSerializer)

@@ -8,6 +8,7 @@ from rest_framework.routers import DefaultRouter
 import registry.schema  # noqa: F401
 from registry.api import docs
 from registry.api.auth import TokenSignInView
+from registry.api.documents import PDF_RENDERERS
 from registry.api.evaluate import EvaluateView
 from registry.api.audits import AuditViewSet, FindingViewSet, IncidentViewSet
 from registry.api.lasers import EmissionViewSet, HazardResultViewSet, LaserViewSet
@@ -37,5 +38,13 @@ urlpatterns = [
     path("docs/redoc/", docs.RedocDocsView.as_view(url_name="api:schema"), name="redoc"),
     path("auth/token/", TokenSignInView.as_view(), name="token"),
     path("evaluate/", EvaluateView.as_view(), name="evaluate"),
+    # Printed documents (issue 11): the paths are a contract, with a file name and no trailing slash.
+    path("locations/<str:pk>/sign.pdf", LocationViewSet.as_view({"get": "sign"}, renderer_classes=PDF_RENDERERS),
+         name="location-sign"),
+    path("lasers/<str:pk>/label.pdf", LaserViewSet.as_view({"get": "label"}, renderer_classes=PDF_RENDERERS),
+         name="laser-label"),
+    path("audits/<str:pk>/report.pdf", AuditViewSet.as_view({"get": "report_pdf"}, renderer_classes=PDF_RENDERERS),
+         name="audit-report-pdf"),
+    path("audits/<str:pk>/report.json", AuditViewSet.as_view({"get": "report_json"}), name="audit-report-json"),
     path("", include(router.urls)),
 ]

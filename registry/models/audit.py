@@ -31,6 +31,10 @@ class Audit(ComplianceRecord):
     lasers = models.ManyToManyField(Laser, blank=True, related_name="audits", verbose_name=_("lasers"))
     site = models.CharField(_("site"), max_length=120, blank=True)
     planned_on = models.DateField(_("planned on"))
+    period_start = models.DateField(_("period from"), null=True, blank=True,
+                                    help_text=_("First day of the period the audit looks back over."))
+    period_end = models.DateField(_("period to"), null=True, blank=True,
+                                  help_text=_("Last day of the period the audit looks back over."))
     conducted_on = models.DateField(_("conducted on"), null=True, blank=True)
     auditor = models.ForeignKey(Person, on_delete=models.PROTECT, related_name="audits", verbose_name=_("auditor"))
     status = models.CharField(_("status"), max_length=20, choices=AuditStatus.choices, default=AuditStatus.PLANNED)
@@ -66,6 +70,12 @@ class Audit(ComplianceRecord):
                 name="registry_audit_signed_off_has_signatory",
                 violation_error_message=_("A signed-off audit needs the date it was conducted, who signed it off and when."),
             ),
+            models.CheckConstraint(
+                condition=models.Q(period_start__isnull=True) | models.Q(period_end__isnull=True)
+                | models.Q(period_end__gte=models.F("period_start")),
+                name="registry_audit_period_in_order",
+                violation_error_message=_("The audit period cannot end before it starts."),
+            ),
         ]
 
     def __str__(self) -> str:
@@ -74,18 +84,28 @@ class Audit(ComplianceRecord):
 
 class ChecklistAnswer(models.TextChoices):
     UNANSWERED = "", _("not answered yet")
-    YES = "yes", _("yes")
-    NO = "no", _("no")
+    PASS = "pass", _("pass")
+    FAIL = "fail", _("fail")
     NOT_APPLICABLE = "n/a", _("not applicable")
 
 
 class AuditChecklistItem(ComplianceRecord):
-    """One question an auditor answers; a "no" usually comes with a finding."""
+    """One question an auditor answers; a failed item raises a finding (registry.services.audits).
+
+    Items drawn from the control measures a class calls for (registry.services.checklist) name
+    the control and the laser or room they are about; the plan's own questions name neither.
+    """
 
     audit = models.ForeignKey(Audit, on_delete=models.PROTECT, related_name="checklist",
                               verbose_name=_("audit"))
     position = models.PositiveIntegerField(_("position"))
     question = models.CharField(_("question"), max_length=300)
+    control = models.CharField(_("control measure"), max_length=40, blank=True,
+                               help_text=_("The control measure the item checks; empty for the plan's own questions."))
+    laser = models.ForeignKey(Laser, on_delete=models.PROTECT, null=True, blank=True,
+                              related_name="checklist_items", verbose_name=_("laser"))
+    location = models.ForeignKey(Location, on_delete=models.PROTECT, null=True, blank=True,
+                                 related_name="checklist_items", verbose_name=_("location"))
     answer = models.CharField(_("answer"), max_length=4, choices=ChecklistAnswer.choices, blank=True)
     comment = free_text(_("comment"), blank=True)
 
@@ -121,6 +141,8 @@ class FindingStatus(models.TextChoices):
 
 class Finding(ComplianceRecord):
     audit = models.ForeignKey(Audit, on_delete=models.PROTECT, related_name="findings", verbose_name=_("audit"))
+    checklist_item = models.ForeignKey(AuditChecklistItem, on_delete=models.PROTECT, null=True, blank=True,
+                                       related_name="findings", verbose_name=_("failed checklist item"))
     laser = models.ForeignKey(Laser, on_delete=models.PROTECT, null=True, blank=True, related_name="findings",
                               verbose_name=_("laser"))
     location = models.ForeignKey(Location, on_delete=models.PROTECT, null=True, blank=True,

@@ -28,7 +28,7 @@ MAX_PEOPLE_INVOLVED = 50
 class ChecklistItemSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     class Meta:
         model = AuditChecklistItem
-        fields = ["id", "position", "question", "answer", "comment"]
+        fields = ["id", "position", "question", "control", "laser", "location", "answer", "comment"]
         read_only_fields = fields
 
 
@@ -37,7 +37,7 @@ class FindingSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
 
     class Meta:
         model = Finding
-        fields = ["id", "audit", "laser", "location", "severity", "description", "corrective_action", "owner",
+        fields = ["id", "audit", "checklist_item", "laser", "location", "severity", "description", "corrective_action", "owner",
                   "owner_name", "due_on", "status", "closed_on", "closed_by", "closure_evidence", "retired_at",
                   "retirement_reason", "created_at", "updated_at"]
         read_only_fields = fields
@@ -59,14 +59,17 @@ class AuditSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     findings = FindingSerializer(many=True, read_only=True)
     questions = serializers.ListField(
         child=serializers.CharField(max_length=300), write_only=True, required=False,
-        max_length=MAX_CHECKLIST_QUESTIONS, help_text="Checklist questions in order (when planning the audit).",
+        max_length=MAX_CHECKLIST_QUESTIONS,
+        help_text="The plan's own checklist questions, in order; the control measures of the lasers in scope "
+                  "join the checklist when the audit starts.",
     )
     lasers = IdListField(child_relation=serializers.PrimaryKeyRelatedField(queryset=Laser.objects.all()),
                          max_length=MAX_AUDITED_LASERS, required=False)
 
     class Meta:
         model = Audit
-        fields = ["id", "reference", "scope", "location", "lasers", "site", "planned_on", "conducted_on", "auditor",
+        fields = ["id", "reference", "scope", "location", "lasers", "site", "planned_on", "period_start",
+                  "period_end", "conducted_on", "auditor",
                   "status", "summary", "signed_off_by", "signed_off_at", "checklist", "findings", "questions",
                   "retired_at", "retirement_reason", "created_at", "updated_at"]
         read_only_fields = ["conducted_on", "status", "summary", "signed_off_by", "signed_off_at", "retired_at",
@@ -88,10 +91,22 @@ class AuditStartSerializer(serializers.Serializer):  # type: ignore[type-arg]
                                          help_text="Date of the audit visit (default today).")
 
 
+class FailureFindingSerializer(serializers.Serializer):  # type: ignore[type-arg]
+    severity = serializers.ChoiceField(choices=FindingSeverity.choices)
+    corrective_action = serializers.CharField()
+    owner = serializers.PrimaryKeyRelatedField(queryset=Person.objects.all(),
+                                               help_text="Who is responsible for the corrective action.")
+    due_on = serializers.DateField()
+
+
 class ChecklistAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
     position = serializers.IntegerField(min_value=1, help_text="The checklist item's position in the audit.")
     answer = serializers.ChoiceField(choices=[choice for choice in ChecklistAnswer.choices if choice[0]])
-    comment = FreeTextField(required=False, allow_blank=True, default="")
+    comment = FreeTextField(required=False, allow_blank=True, default="",
+                            help_text="A note; for a failure, what failed (it describes the finding).")
+    finding = FailureFindingSerializer(
+        required=False, allow_null=True, default=None,
+        help_text="Required with the first failure of an item: the finding it raises.")
 
 
 class FindingRaiseSerializer(serializers.Serializer):  # type: ignore[type-arg]

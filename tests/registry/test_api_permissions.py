@@ -69,6 +69,7 @@ ROWS: dict[str, Row] = {
         "longest_dimension": "4.5 m"}, LSO_CREATE),
     "location edit": Row("patch", f"{V}/locations/{{id}}/", lambda w: w.room.pk, lambda w: {
         "longest_dimension": "7.5 m", "has_warning_light": True}, LSO_WRITE, needs_if_match=True),
+    "location sign": Row("get", f"{V}/locations/{{id}}/sign.pdf", lambda w: w.room.pk, None, READERS),
     "location replace": Row("put", f"{V}/locations/{{id}}/", lambda w: w.room.pk, lambda w: {
         "site": "Test Site", "building": "Alder Hall", "room": "101A", "is_controlled_area": True},
         LSO_WRITE, needs_if_match=True),
@@ -80,6 +81,7 @@ ROWS: dict[str, Row] = {
     "laser detail (the user is authorized)": Row("get", f"{V}/lasers/{{id}}/", lambda w: w.authorized_laser.pk,
                                                  None, EVERYONE),
     "laser history": Row("get", f"{V}/lasers/{{id}}/history/", laser, None, OWNER_HISTORY),
+    "laser label": Row("get", f"{V}/lasers/{{id}}/label.pdf", laser, None, READERS),
     "laser register": Row("post", f"{V}/lasers/", None, lambda w: {
         "asset_tag": "TST-0100", "laser_type": "diode", "labelled_class": "3R", "location": w.room.pk},
         _s(401, 201, 403, 201, 201, 403)),
@@ -207,6 +209,10 @@ ROWS: dict[str, Row] = {
     "audits list": Row("get", f"{V}/audits/", None, None, LSO_INSPECTOR),
     "audit detail": Row("get", f"{V}/audits/{{id}}/", lambda w: w.running_audit.pk, None, LSO_INSPECTOR),
     "audit history": Row("get", f"{V}/audits/{{id}}/history/", lambda w: w.running_audit.pk, None, LSO_INSPECTOR),
+    "audit report pdf": Row("get", f"{V}/audits/{{id}}/report.pdf", lambda w: w.running_audit.pk, None,
+                            LSO_INSPECTOR),
+    "audit report json": Row("get", f"{V}/audits/{{id}}/report.json", lambda w: w.running_audit.pk, None,
+                             LSO_INSPECTOR),
     "audit plan": Row("post", f"{V}/audits/", None, lambda w: {
         "reference": "TST-AUD-9", "scope": "location", "location": w.room.pk, "auditor": w.lso.pk,
         "planned_on": "2027-01-15", "questions": ["Is the door sign posted?"]}, LSO_CREATE),
@@ -219,7 +225,9 @@ ROWS: dict[str, Row] = {
         LSO_WRITE, needs_if_match=True),
     "audit start": Row("post", f"{V}/audits/{{id}}/start/", lambda w: w.planned_audit.pk, lambda w: {}, LSO_WRITE),
     "audit answer": Row("post", f"{V}/audits/{{id}}/answer/", lambda w: w.running_audit.pk,
-                        lambda w: {"position": 1, "answer": "no", "comment": "One dump missing."}, LSO_WRITE),
+                        lambda w: {"position": 1, "answer": "fail", "comment": "One dump missing.", "finding": {
+                            "severity": "minor", "corrective_action": "Fit a dump.", "owner": w.owner.pk,
+                            "due_on": "2027-01-31"}}, LSO_WRITE),
     "audit raise finding": Row("post", f"{V}/audits/{{id}}/findings/", lambda w: w.running_audit.pk, lambda w: {
         "severity": "major", "description": "Interlock bypassed.", "owner": w.owner.pk}, LSO_CREATE),
     "audit sign off": Row("post", f"{V}/audits/{{id}}/sign-off/", lambda w: w.answered_audit.pk,

@@ -1,6 +1,7 @@
 """The register's workflows driven over HTTP, end to end, each step's saved state checked."""
 from __future__ import annotations
 
+import datetime
 import shutil
 import tempfile
 
@@ -162,19 +163,38 @@ class WorkflowTests(TestCase):
         self.assertEqual([item["question"] for item in planned.json()["checklist"]],
                          ["Is the door sign posted?", "Are beam dumps in place?"])
 
-        early = self.lso_client.post(f"{url}answer/", {"position": 1, "answer": "yes"}, format="json")
+        early = self.lso_client.post(f"{url}answer/", {"position": 1, "answer": "pass"}, format="json")
         self.assertEqual(early.status_code, 400)
-        self.assertEqual(self.lso_client.post(f"{url}start/", {"conducted_on": "2026-12-01"},
-                                              format="json").status_code, 200)
-        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 1, "answer": "yes"},
+        started = self.lso_client.post(f"{url}start/", {"conducted_on": "2026-12-01"}, format="json")
+        self.assertEqual(started.status_code, 200)
+        # The class 4 laser's control measures follow the plan's two questions: the room's, then the laser's.
+        self.assertEqual([item["control"] for item in started.json()["checklist"]], [
+            "", "", "signs_posted", "entry_controls_tested", "eyewear_adequate", "registered", "labelled",
+            "sop_current", "users_authorized", "beams_terminated", "key_controlled"])
+        failed_without_finding = self.lso_client.post(f"{url}answer/", {
+            "position": 10, "answer": "fail", "comment": "The idler runs off the table."}, format="json")
+        self.assertEqual(failed_without_finding.status_code, 400)
+        self.assertIn("corrective_action", failed_without_finding.json()["finding"][0])
+        failed = self.lso_client.post(f"{url}answer/", {
+            "position": 10, "answer": "fail", "comment": "The idler runs off the table.", "finding": {
+                "severity": "major", "corrective_action": "Fit a beam dump at the table edge.",
+                "owner": self.researcher.pk, "due_on": "2026-12-20"}}, format="json")
+        self.assertEqual(failed.status_code, 200, failed.content)
+        from_failure = Finding.objects.get(checklist_item_id=failed.json()["id"])
+        self.assertEqual((from_failure.severity, from_failure.laser, from_failure.owner, from_failure.due_on),
+                         ("major", laser, self.researcher, datetime.date(2026, 12, 20)))
+        for position in (3, 4, 5, 6, 7, 8, 9, 11):
+            self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": position, "answer": "pass"},
+                                                  format="json").status_code, 200)
+        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 1, "answer": "pass"},
                                               format="json").status_code, 200)
         unanswered = self.lso_client.post(f"{url}sign-off/", {}, format="json")
         self.assertEqual(unanswered.status_code, 400)
         self.assertIn("#2", unanswered.json()["checklist"][0])
-        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 2, "answer": "no",
-                                                                "comment": "One missing."},
+        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 2, "answer": "n/a",
+                                                                "comment": "No free beams."},
                                               format="json").status_code, 200)
-        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 9, "answer": "no"},
+        self.assertEqual(self.lso_client.post(f"{url}answer/", {"position": 99, "answer": "pass"},
                                               format="json").status_code, 404)
         raised = self.lso_client.post(f"{url}findings/", {
             "severity": "minor", "description": "Beam dump missing on table 2.", "owner": self.researcher.pk,

@@ -194,11 +194,13 @@ class TestAudit:
     def test_sign_off_waits_for_every_answer(self, audit: Audit, lso: Person) -> None:
         audit_start(audit=audit, by=lso)
         first, second = audit.checklist.order_by("position")
-        audit_answer(item=first, answer="yes", by=lso)
+        audit_answer(item=first, answer="pass", by=lso)
         with pytest.raises(ValidationError) as raised:
             audit_sign_off(audit=audit, by=lso)
         assert raised.value.message_dict == {"checklist": ["AUD-1 has unanswered checklist items: #2."]}
-        audit_answer(item=second, answer="no", comment="Two goggles scratched.", by=lso)
+        audit_answer(item=second, answer="fail", comment="Two goggles scratched.", by=lso,
+                     finding={"severity": "minor", "corrective_action": "Replace both.", "owner": lso,
+                              "due_on": TODAY})
         audit_sign_off(audit=audit, by=lso, summary="Fine apart from eyewear.")
         audit.refresh_from_db()
         assert audit.status == "signed_off"
