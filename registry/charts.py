@@ -23,8 +23,7 @@ from hazards.limits import LIMIT_SETS, exposure_limit  # noqa: E402
 from hazards.units import format_for_people  # noqa: E402
 
 _SVG = "http://www.w3.org/2000/svg"
-ET.register_namespace("", _SVG)
-ET.register_namespace("xlink", "http://www.w3.org/1999/xlink")
+_XLINK = "http://www.w3.org/1999/xlink"
 
 # Distinct in grey print too: each set has its own line style as well as its own colour.
 _SET_STYLES = {"icnirp2013": ("#1f4e79", "-"), "eu2006": ("#b3541e", "--")}
@@ -120,4 +119,8 @@ def _svg(figure: Figure, *, title: str) -> bytes:
     heading = ET.Element(f"{{{_SVG}}}title")
     heading.text = title
     root.insert(0, heading)
+    # ElementTree's prefixes are process-wide and other libraries (the PDF renderer's SVG reader)
+    # register their own: name ours just before writing, so the SVG stays <svg>, not <ns0:svg>.
+    ET.register_namespace("", _SVG)
+    ET.register_namespace("xlink", _XLINK)
     return ET.tostring(root, encoding="utf-8", xml_declaration=True)

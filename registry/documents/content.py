@@ -341,9 +341,11 @@ class AuditReport:
 
 def audit_report(audit: Audit, *, as_of: datetime.date, limits: str | None = None) -> AuditReport:
     """The report of ``audit``: its plan, the register of its scope as on ``as_of``, its checklist
-    and findings. Eight queries, and two per room in scope (its eyewear); three more per room
-    for an audit of selected lasers, whose rooms may hold others."""
+    and findings. Nine queries, and two per room in scope (its eyewear); three more per room
+    for an audit of selected lasers, whose rooms may hold others. The audit is read afresh with
+    its room and people joined, whatever the caller's instance has loaded."""
     chosen = limits or selectors.register_limits()
+    audit = Audit.objects.select_related("location", "auditor__user", "signed_off_by__user").get(pk=audit.pk)
     lasers = list(selectors.audit_scope_lasers(audit))
     items = list(audit.checklist.filter(retired_at__isnull=True).order_by("position"))
     lasers_by_pk, rooms_by_pk = _checklist_subjects(items, lasers)

@@ -218,10 +218,11 @@ class AuditReportTests(TestCase):
         self.assertEqual(page_size(first.data), LETTER_POINTS)
 
     def test_the_report_reads_the_register_in_queries_that_grow_with_rooms_not_lasers(self) -> None:
-        # The scope's lasers, their emissions, the emissions' results; the checklist; the findings
-        # (owner, account, laser, room joined); the authorizations (person and account joined);
-        # general training; the LSOs; then the room's eyewear and its markings.
-        with self.assertNumQueries(10):
+        # The audit (room, auditor and signatory joined); the scope's lasers, their emissions, the
+        # emissions' results; the checklist; the findings (owner, account, laser, room joined); the
+        # authorizations (person and account joined); general training; the LSOs; then the room's
+        # eyewear and its markings.
+        with self.assertNumQueries(11):
             render_audit_report(self.world.audit, generated_at=GENERATED_AT)
 
     def test_a_pre_audit_pack_lists_the_checks_the_room_calls_for_unanswered(self) -> None:
