@@ -214,3 +214,24 @@ def _three_figures(value: float) -> str:
         return f"{rounded:,.0f}".replace(",", " ")
     decimals = max(0, 2 - math.floor(math.log10(abs(rounded)))) if rounded else 0
     return f"{rounded:.{decimals}f}".rstrip("0").rstrip(".") if decimals else f"{rounded:.0f}"
+
+
+def format_wavelength(value_m: float, high_m: float | None = None) -> str:
+    """A wavelength, or a range, as data sheets and markings write it: "1064 nm", "632.8 nm", "10.6 µm".
+
+    A wavelength names a line rather than a measured figure, so it is never rounded to three
+    significant figures ("1064 nm" must not read "1.06 µm"): nanometres with at most one decimal
+    below 10 µm, micrometres with at most two beyond, millimetres from 1 mm.
+    """
+    def one(value: float) -> str:
+        if value < 10e-6:
+            return f"{_trimmed(value * 1e9, 1)} nm"
+        if value < 1e-3:
+            return f"{_trimmed(value * 1e6, 2)} µm"
+        return f"{_trimmed(value * 1e3, 3)} mm"
+
+    return one(value_m) if high_m is None else f"{one(value_m)} to {one(high_m)}"
+
+
+def _trimmed(value: float, decimals: int) -> str:
+    return f"{value:.{decimals}f}".rstrip("0").rstrip(".")

@@ -20,7 +20,7 @@ from matplotlib.figure import Figure  # noqa: E402
 
 from hazards.caution import CAUTION  # noqa: E402
 from hazards.limits import LIMIT_SETS, exposure_limit  # noqa: E402
-from hazards.units import format_for_people  # noqa: E402
+from hazards.units import format_for_people, format_wavelength  # noqa: E402
 
 _SVG = "http://www.w3.org/2000/svg"
 _XLINK = "http://www.w3.org/1999/xlink"
@@ -50,10 +50,10 @@ def eye_mpe_chart(*, wavelength_m: float, source_size_rad: float, basis_s: float
                   (basis_s, at_basis), textcoords="offset points", xytext=(8, -14), fontsize=9)
     axes.set_xlabel("exposure duration (s)")
     axes.set_ylabel("eye MPE, radiant exposure (J/m²)")
-    axes.set_title(f"Eye MPE at {format_for_people(wavelength_m, 'm')}", fontsize=11)
+    axes.set_title(f"Eye MPE at {format_wavelength(wavelength_m)}", fontsize=11)
     axes.grid(True, which="major", color="#dddddd", linewidth=0.6)
     axes.legend(fontsize=9, loc="upper left")
-    return _svg(figure, title=f"Eye MPE against exposure duration at {format_for_people(wavelength_m, 'm')}")
+    return _svg(figure, title=f"Eye MPE against exposure duration at {format_wavelength(wavelength_m)}")
 
 
 def hazard_distance_chart(*, beam_diameter_m: float | None, divergence_rad: float | None, nohd_m: float | None,

@@ -196,7 +196,7 @@ def door_sign(location: Location, *, limits: str | None = None) -> DoorSign:
 
 def laser_page_path(laser: Laser) -> str:
     """The path of the laser's page in the register, which its label's QR code points to."""
-    return reverse("admin:registry_laser_change", args=[laser.pk])
+    return reverse("laser", args=[laser.pk])
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ from hazards.classes import normalise_class
 from hazards.errors import InputError
 from hazards.limits import LIMIT_SETS
 from hazards.limits.limit_set import load_limit_set
-from hazards.units import format_for_people
+from hazards.units import format_wavelength
 from registry.models import EMISSION_BEAM_FIELDS, Emission, HazardResult, Person
 from registry.services._common import validated_save
 
@@ -165,11 +165,10 @@ def _evaluation(emission: Emission, assessments: list[Assessment]) -> EmissionEv
     if len(assessments) > 1:
         assert emission.wavelength_max_m is not None
         warnings.append(
-            f"Tunable from {format_for_people(emission.wavelength_m, 'm')} to "
-            f"{format_for_people(emission.wavelength_max_m, 'm')}: "
+            f"Tunable from {format_wavelength(emission.wavelength_m, emission.wavelength_max_m)}: "
             f"assessed at {len(assessments)} wavelengths; the figures are for "
-            f"{format_for_people(worst.beam.wavelength_m, 'm')}, the longest NOHD. The required optical density reaches "
-            f"OD {densest.od_required} at {format_for_people(densest.beam.wavelength_m, 'm')}; eyewear must cover "
+            f"{format_wavelength(worst.beam.wavelength_m)}, the longest NOHD. The required optical density reaches "
+            f"OD {densest.od_required} at {format_wavelength(densest.beam.wavelength_m)}; eyewear must cover "
             "the whole range."
         )
     return EmissionEvaluation(assessment=worst, record=worst.to_dict(), warnings=warnings,

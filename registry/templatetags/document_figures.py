@@ -1,7 +1,7 @@
 """Figures on printed documents, as people read them (hazards.units.format_for_people).
 
 Three significant figures with a metric prefix and never an exponent, so a sign read from the
-door and a report read by an inspector show "1.06 µm", "250 mW", "8.42 m". A value the data
+door and a report read by an inspector show "250 mW", "8.42 m"; wavelengths as marked ("1064 nm"). A value the data
 sheet does not give prints as a dash; a hazard figure the engine did not compute says so.
 """
 from __future__ import annotations
@@ -11,7 +11,7 @@ from typing import Protocol
 from django import template
 from django.utils.safestring import SafeString, mark_safe
 
-from hazards.units import format_for_people
+from hazards.units import format_for_people, format_wavelength
 from registry.models import HazardResult
 from registry.templatetags.hazard_figures import NOT_COMPUTED
 
@@ -38,11 +38,8 @@ def for_people(value: float | None, unit: str) -> str:
 
 @register.filter
 def wavelength(source: HasWavelength) -> str:
-    """One wavelength ("532 nm") or a tunable range ("700 nm to 1.00 µm")."""
-    low = format_for_people(source.wavelength_m, "m")
-    if source.wavelength_max_m is None:
-        return low
-    return f"{low} to {format_for_people(source.wavelength_max_m, 'm')}"
+    """One wavelength ("1064 nm") or a tunable range ("700 nm to 1000 nm"), as marked, never rounded."""
+    return format_wavelength(source.wavelength_m, source.wavelength_max_m)
 
 
 @register.filter

@@ -14,7 +14,7 @@ from django.utils.translation import gettext as _
 
 from hazards.caution import CAUTION
 from hazards.limits.limit_set import load_limit_set
-from hazards.units import format_for_people
+from hazards.units import format_for_people, format_wavelength
 from hazards.working import Step, StepDict, Working
 from hazards.eyewear import Adequacy
 from registry.models import Emission, HazardResult
@@ -196,11 +196,8 @@ def figure_rows(shown: HazardResult | None, other: HazardResult | None) -> list[
 
 @register.filter
 def wavelength_text(emission: Emission) -> str:
-    """An emission's wavelength, or its range: "532 nm", "690 nm to 1.04 µm"."""
-    shown = format_for_people(emission.wavelength_m, "m")
-    if emission.wavelength_max_m is not None:
-        shown += f" to {format_for_people(emission.wavelength_max_m, 'm')}"
-    return shown
+    """An emission's wavelength, or its range, as marked: "1064 nm", "690 nm to 1040 nm"."""
+    return format_wavelength(emission.wavelength_m, emission.wavelength_max_m)
 
 
 _VERDICT_WORDS = {"adequate": "adequate", "inadequate": "inadequate", "not_covered": "not covered"}

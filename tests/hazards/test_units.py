@@ -6,7 +6,7 @@ import time
 import pytest
 
 from hazards.errors import InputError
-from hazards.units import MAX_TEXT_LENGTH, format_for_people, parse_quantity
+from hazards.units import MAX_TEXT_LENGTH, format_for_people, format_wavelength, parse_quantity
 
 
 @pytest.mark.parametrize(("value", "unit", "expected"), [
@@ -88,3 +88,13 @@ def test_the_longest_accepted_text_is_read_or_refused_at_once(text: str) -> None
 def test_figures_for_people_have_three_significant_figures_and_no_exponent(value: float, unit: str,
                                                                            expected: str) -> None:
     assert format_for_people(value, unit) == expected
+
+
+@pytest.mark.parametrize(("value", "high", "expected"), [
+    # A wavelength names a line: never rounded to three figures (1064 nm is not "1064 nm").
+    (1064e-9, None, "1064 nm"), (632.8e-9, None, "632.8 nm"), (514.5e-9, None, "514.5 nm"),
+    (10.6e-6, None, "10.6 µm"), (2.94e-6, None, "2940 nm"), (1e-3, None, "1 mm"),
+    (700e-9, 1000e-9, "700 nm to 1000 nm"),
+])
+def test_wavelengths_are_shown_as_marked(value: float, high: float | None, expected: str) -> None:
+    assert format_wavelength(value, high) == expected

@@ -74,7 +74,7 @@ class DoorSignTests(TestCase):
         self.assertIn('<div class="signal-word">DANGER</div>', html)
         self.assertIn("Class 4 laser:", html)
         yag, diode = self.result("YAG-1"), self.result("DIO-1")
-        for wavelength, result, goggles in (("808 nm", diode, "EW-808"), ("1.06 µm", yag, "EW-1064")):
+        for wavelength, result, goggles in (("808 nm", diode, "EW-808"), ("1064 nm", yag, "EW-1064")):
             with self.subTest(wavelength=wavelength):
                 row = re.search(rf"<tr>\s*<td>{re.escape(wavelength)}</td>(.*?)</tr>", html).group(1)
                 self.assertIn(f"OD {result.od_required:g}", row)
@@ -94,7 +94,7 @@ class DoorSignTests(TestCase):
         text, pages = pdf_text(document.to_pdf().data)
         text = flat(text)
         self.assertEqual(pages, 1)
-        for expected in ("DANGER", "1.06 µm", "808 nm", f"OD {yag.od_required:g}", f"OD {diode.od_required:g}",
+        for expected in ("DANGER", "1064 nm", "808 nm", f"OD {yag.od_required:g}", f"OD {diode.od_required:g}",
                          "EW-1064", "EW-808", "Ada Quill", CAUTION[:60]):
             self.assertIn(expected, text)
 
@@ -149,16 +149,16 @@ class LaserLabelTests(TestCase):
 
     def test_the_label_shows_tag_class_wavelengths_owner_and_a_qr_code_of_the_laser_page(self) -> None:
         laser = selectors.laser_list().get(pk=self.world.yag.pk)
-        url = f"https://register.example/admin/registry/laser/{laser.pk}/change/"
+        url = f"https://register.example/lasers/{laser.pk}/"
         document = render_laser_label(laser, page_url=url, generated_at=GENERATED_AT)
         html = flat(document.html)
-        for expected in ("YAG-1", "Class 4", "1.06 µm", "Rhea Tallis", url, CAUTION):
+        for expected in ("YAG-1", "Class 4", "1064 nm", "Rhea Tallis", url, CAUTION):
             self.assertIn(expected, html)
         self.assertIn('<svg viewBox="0 0 ', html)
         self.assertIn('class="qrline"', html)
         text, pages = pdf_text(document.to_pdf().data)
         self.assertEqual(pages, 1)
-        for expected in ("YAG-1", "Class 4", "1.06 µm", "Rhea Tallis"):
+        for expected in ("YAG-1", "Class 4", "1064 nm", "Rhea Tallis"):
             self.assertIn(expected, flat(text))
 
 
@@ -186,7 +186,7 @@ class AuditReportTests(TestCase):
         self.assertGreaterEqual(pages, 2)
         self.assertIn("page 1 of", text)
         self.assertIn(f"page {pages} of {pages}", text)
-        for expected in ("YAG-1", "DIO-1", "1.06 µm", "808 nm", yag.en207_marking, "major",
+        for expected in ("YAG-1", "DIO-1", "1064 nm", "808 nm", yag.en207_marking, "major",
                          "Fit a water-cooled beam dump.", CAUTION[:60]):
             self.assertIn(expected, text)
 

@@ -103,7 +103,7 @@ def test_a_tunable_range_is_assessed_at_its_worst_wavelength(researcher: Person)
             for wavelength in (700e-9, 1000e-9)]
     assert result.nohd_m >= max(item.nohd_m or 0.0 for item in ends) * (1 - 1e-9)
     assert result.od_required >= max(item.od_required for item in ends)
-    assert any(warning.startswith("Tunable from 700 nm to 1 µm") for warning in result.warnings)
+    assert any(warning.startswith("Tunable from 700 nm to 1000 nm") for warning in result.warnings)
 
 
 def test_pulses_shorter_than_the_tables_are_assessed_at_100_fs_with_the_engines_warning(researcher: Person) -> None:
