@@ -423,15 +423,20 @@ class AuditDue:
     planned: Audit | None
 
 
-def audits_due(*, today: datetime.date | None = None, within_days: int = 30) -> list[AuditDue]:
-    """Locations with a class 3B/4 laser in the register's care that are due within ``within_days``, or overdue.
+def audits_due(*, today: datetime.date | None = None, within_days: int | None = 30,
+               locations: Iterable[Location] | None = None) -> list[AuditDue]:
+    """Locations with a class 3B/4 laser in the register's care that are due within ``within_days``, or overdue
+    (``within_days=None``: whenever they are due); ``locations`` narrows the rooms looked at.
 
     Two queries: the locations and the audits covering them. Overdue first, then by due date.
     """
     day = today or timezone.localdate()
     hazardous = (Q(lasers__labelled_class__in=HAZARDOUS_CLASSES) | Q(lasers__embedded_class__in=HAZARDOUS_CLASSES)) \
         & ~Q(lasers__status__in=RETIRED_STATUSES)
-    locations = list(Location.objects.filter(hazardous).distinct().order_by("site", "building", "room"))
+    rooms = Location.objects.filter(hazardous)
+    if locations is not None:
+        rooms = rooms.filter(pk__in=[location.pk for location in locations])
+    locations = list(rooms.distinct().order_by("site", "building", "room"))
     covering = Q(scope=AuditScope.LOCATION, location__in=locations) | Q(scope=AuditScope.SITE)
     audits = Audit.objects.filter(covering, retired_at__isnull=True).select_related("location").order_by("conducted_on")
     signed_off = [audit for audit in audits if audit.status == AuditStatus.SIGNED_OFF]
@@ -440,7 +445,7 @@ def audits_due(*, today: datetime.date | None = None, within_days: int = 30) -> 
     for location in locations:
         last = next((audit for audit in reversed(signed_off) if _covers(audit, location)), None)
         due_on = None if last is None else _add_months(last.conducted_on, settings.AUDIT_INTERVAL_MONTHS)
-        if due_on is not None and due_on > day + datetime.timedelta(days=within_days):
+        if due_on is not None and within_days is not None and due_on > day + datetime.timedelta(days=within_days):
             continue
         planned = next((audit for audit in open_audits if _covers(audit, location)), None)
         due.append(AuditDue(location=location, last=last, due_on=due_on, overdue=due_on is None or due_on < day,

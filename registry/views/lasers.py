@@ -93,6 +93,7 @@ def laser_detail(request: PageRequest, pk: int) -> HttpResponse:
         "can_resubmit": laser.status == LaserStatus.RETURNED and permissions.LASERS.allows(person, "submit", laser),
         "can_review": laser.status == LaserStatus.PENDING_REVIEW and permissions.LASERS.allows(person, "approve"),
         "can_report": permissions.INCIDENTS.allows(person, "create"),
+        "can_print_label": permissions.LASERS.allows(person, "label", laser),
         # The back office edits what the API's policy lets this person edit, for staff accounts.
         "back_office": request.user.is_staff and permissions.LASERS.allows(person, "update", laser),
     })

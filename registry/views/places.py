@@ -19,4 +19,8 @@ def location_detail(request: PageRequest, pk: int) -> HttpResponse:
     return render(request, "pages/location.html", {
         "location": location, "room": room, "rows": rows, "limits": room.matrix.limits,
         "signal_word": selectors.signal_word(laser.effective_class for laser in room.lasers),
+        "can_print_sign": permissions.LOCATIONS.allows(request.person, "sign"),
+        "audit_due": next(iter(selectors.audits_due(within_days=None, locations=[location])), None),
+        "audits": selectors.audit_list().filter(location=location, retired_at__isnull=True)
+        if permissions.AUDITS.allows(request.person, "report_pdf") else [],
     })

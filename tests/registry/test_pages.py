@@ -424,6 +424,39 @@ class RoomTests(TestCase):
         self.assertEqual(response.context["signal_word"], "DANGER")
 
 
+class DocumentLinkTests(TestCase):
+    """The pages link to the printed documents, for the roles the documents' own routes serve."""
+
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+
+    def test_the_laser_page_links_its_label_for_those_who_may_print_it(self) -> None:
+        link = f'href="/api/v1/lasers/{self.world.laser.pk}/label.pdf"'
+        for persona, shown in (("lso", True), ("inspector", True), ("owner", True), ("user", False)):
+            with self.subTest(persona=persona):
+                html = _client(self.world, persona).get(f"/lasers/{self.world.laser.pk}/").content.decode()
+                self.assertEqual(link in html, shown)
+                if shown:
+                    self.assertEqual(_client(self.world, persona).get(f"/api/v1/lasers/{self.world.laser.pk}/label.pdf")
+                                     .status_code, 200)
+
+    def test_the_room_page_links_its_door_sign_and_says_when_an_audit_is_due(self) -> None:
+        html = _client(self.world, "lso").get(f"/locations/{self.world.room.pk}/").content.decode()
+        self.assertIn(f'href="/api/v1/locations/{self.world.room.pk}/sign.pdf"', html)
+        self.assertIn(f'href="/api/v1/locations/{self.world.room.pk}/sign.pdf?paper=letter"', html)
+        # A room with a class 4 laser and no signed-off audit is overdue (settings.AUDIT_INTERVAL_MONTHS).
+        self.assertIn("overdue: never audited", html)
+
+    def test_the_inspectors_home_links_each_audit_report_as_pdf_and_json(self) -> None:
+        audit = factories.AuditFactory.create(location=self.world.room)
+        html = _client(self.world, "inspector").get("/").content.decode()
+        self.assertIn(f'href="/api/v1/audits/{audit.pk}/report.pdf"', html)
+        self.assertIn(f'href="/api/v1/audits/{audit.pk}/report.json"', html)
+
+
 class PeopleTests(TestCase):
     world: World
 
