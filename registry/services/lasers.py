@@ -12,6 +12,7 @@ from django.utils import timezone
 from hazards.assessment import beam_fields
 from registry.models import (
     EMISSION_BEAM_FIELDS,
+    AuthorizationStatus,
     RETIRED_STATUSES,
     Emission,
     Laser,
@@ -21,6 +22,7 @@ from registry.models import (
     class_rank,
 )
 from registry.selectors import emissions_not_assessed
+from registry.services.authorizations import authorization_refuse, authorization_revoke
 from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
 from registry.services._common import (
@@ -180,13 +182,23 @@ def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -
 @transaction.atomic
 def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
                  retired_on: datetime.date | None = None) -> Laser:
-    """Dispose of or transfer a laser; the record and its history stay in the register."""
+    """Dispose of or transfer a laser; the record and its history stay in the register.
+
+    Nobody stays authorized on a laser that has left: its approved authorizations are revoked and
+    its pending requests refused, each with the reason, in the same transaction (afterwards the
+    laser and its authorizations are read-only).
+    """
     require_role(by, Role.LSO, action="retire a laser")
     if status not in RETIRED_STATUSES:
         raise ValidationError({"status": f"A laser retires as {' or '.join(RETIRED_STATUSES)}, not '{status}'."})
     note = require_text(reason, field="status_note", what="A reason")
     lock_for_change(laser)
     require_transition(laser, current=laser.status, target=status, allowed=LASER_TRANSITIONS)
+    why = f"{laser.asset_tag} was {LaserStatus(status).label}: {note}"
+    for authorization in laser.authorizations.filter(retired_at__isnull=True, status__in=(
+            AuthorizationStatus.APPROVED, AuthorizationStatus.REQUESTED)):
+        close = authorization_revoke if authorization.status == AuthorizationStatus.APPROVED else authorization_refuse
+        close(authorization=authorization, by=by, reason=why)
     laser.retired_on = retired_on or timezone.localdate()
     return _move(laser, status, by=by, note=note)
 

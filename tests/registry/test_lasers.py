@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import pytest
+from django.utils import timezone
 from django.core.exceptions import PermissionDenied, ValidationError
 
 from registry.models import Emission, Laser, LaserStatus, RecordRetainedError
@@ -247,3 +248,17 @@ def test_a_retired_laser_and_its_emissions_are_not_changed(lso: factories.Person
     assert emission.average_power_W == 0.01
     assert laser.emissions.count() == 1
     assert (laser.history.count(), emission.history.count()) == history
+
+
+def test_retiring_a_laser_closes_every_authorization_on_it(lso: factories.Person) -> None:
+    laser = factories.LaserFactory.create()
+    decided = {"decided_by": lso, "decided_at": timezone.now()}
+    approved = factories.AuthorizationFactory.create(laser=laser, status="approved", **decided)
+    requested = factories.AuthorizationFactory.create(laser=laser, status="requested")
+    withdrawn = factories.AuthorizationFactory.create(laser=laser, status="withdrawn", **decided)
+    laser_retire(laser=laser, by=lso, status="disposed", reason="Cracked rod, not worth repairing.")
+    for record in (approved, requested, withdrawn):
+        record.refresh_from_db()
+    assert (approved.status, requested.status, withdrawn.status) == ("revoked", "refused", "withdrawn")
+    assert approved.decision_reason == f"{laser.asset_tag} was disposed: Cracked rod, not worth repairing."
+    assert approved.history.first().history_user == lso.user
