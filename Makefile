@@ -6,7 +6,7 @@ HOST ?= 127.0.0.1:8000
 # The suite runs on every core; pass PYTEST_ARGS= to run it in one process.
 PYTEST_ARGS ?= -n auto
 
-.PHONY: demo test typecheck install install-test bench clean
+.PHONY: demo test typecheck install install-test system-packages bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -29,7 +29,12 @@ demo: install
 	$(BIN)/python manage.py seed_campus
 	$(BIN)/python manage.py runserver $(HOST)
 
-test: install-test
+# Chromium, HarfBuzz's subsetter and poppler: installed when run as root with apt,
+# otherwise named and the run stops at once (scripts/system-packages).
+system-packages:
+	scripts/system-packages
+
+test: system-packages install-test
 	$(BIN)/python -m pytest $(PYTEST_ARGS)
 
 typecheck: install-test
