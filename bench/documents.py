@@ -11,8 +11,8 @@ with findings. Then renders each document ``--runs`` times and prints, per docum
 median seconds to read the register and fill the template (HTML), to lay out and write the
 PDF, the page count, pages per second and the queries made. The machine is shared, so the
 same run also renders a reference (a plain 500-row, 5-column table, straight to WeasyPrint)
-and prints each document's time as a multiple of it: a ratio that moves far less with the
-machine's load than the seconds do.
+and prints each document's time as a multiple of it, and the CPU seconds the render took: both
+move far less with the machine's load than the wall-clock seconds do.
 
 Run from the project root: ``python bench/documents.py [--runs 3]``.
 """
@@ -161,8 +161,9 @@ def _measure(label: str, render: object, runs: int, reference: float) -> None:
     from django.db import connection
     from django.test.utils import CaptureQueriesContext
 
-    html_seconds, pdf_seconds, pages, queries = [], [], 0, 0
+    html_seconds, pdf_seconds, cpu_seconds, pages, queries = [], [], [], 0, 0
     for _ in range(runs):
+        cpu_started = time.process_time()
         started = time.perf_counter()
         with CaptureQueriesContext(connection) as captured:
             document = render()  # type: ignore[operator]
@@ -170,11 +171,13 @@ def _measure(label: str, render: object, runs: int, reference: float) -> None:
         started = time.perf_counter()
         pdf = document.to_pdf()
         pdf_seconds.append(time.perf_counter() - started)
+        cpu_seconds.append(time.process_time() - cpu_started)
         pages, queries = pdf.pages, len(captured)
     html, laid_out = statistics.median(html_seconds), statistics.median(pdf_seconds)
     total = html + laid_out
     print(f"{label:<34} {html:6.2f} s HTML + {laid_out:6.2f} s PDF = {total:6.2f} s "
-          f"({total / reference:4.1f} x reference); {pages:4d} pages, {pages / total:5.1f} pages/s; {queries} queries")
+          f"({total / reference:4.1f} x reference, {statistics.median(cpu_seconds):6.2f} s of CPU); "
+          f"{pages:4d} pages, {pages / total:5.1f} pages/s; {queries} queries")
 
 
 def main() -> None:
