@@ -8,7 +8,8 @@ what the database or the services would refuse.
 from __future__ import annotations
 
 import math
-from typing import Any
+from collections.abc import Callable
+from typing import Any, TypeVar
 
 from django import forms
 from django.core.exceptions import ValidationError
@@ -290,6 +291,21 @@ class IncidentReportForm(forms.Form):
     def __init__(self, *args: Any, lasers: Any, **kwargs: Any) -> None:
         super().__init__(*args, **kwargs)
         self.fields["laser"].queryset = lasers
+
+
+T = TypeVar("T")
+
+
+def submit_to_service(form: forms.BaseForm, action: Callable[[dict[str, Any]], T]) -> T | None:
+    """Run a service on the form's cleaned values: its result, or None when the form is invalid
+    or the service refused (the refusal then shows on the form, see ``add_service_errors``)."""
+    if not form.is_valid():
+        return None
+    try:
+        return action(form.cleaned_data)
+    except ValidationError as error:
+        add_service_errors(form, error)
+        return None
 
 
 def add_service_errors(form: forms.BaseForm, error: ValidationError) -> None:

@@ -14,7 +14,7 @@ from registry.forms import (
     AuthorizationRequestForm,
     PersonCreateForm,
     TrainingRecordForm,
-    add_service_errors,
+    submit_to_service,
 )
 from registry.models import Authorization, AuthorizationStatus
 from registry.services import (
@@ -70,14 +70,10 @@ def person_detail(request: PageRequest, pk: int) -> HttpResponse:
 def person_training(request: PageRequest, pk: int) -> HttpResponse:
     person = visible_or_404(permissions.PEOPLE, request.person, selectors.person_list(), pk)
     form = TrainingRecordForm(request.POST, prefix="training")
-    if form.is_valid():
-        try:
-            training_record(person=person, by=request.person, verified_by=request.person, **form.cleaned_data)
-        except ValidationError as error:
-            add_service_errors(form, error)
-        else:
-            messages.success(request, f"Training recorded for {person}.")
-            return redirect("person", pk=person.pk)
+    if submit_to_service(form, lambda values: training_record(
+            person=person, by=request.person, verified_by=request.person, **values)):
+        messages.success(request, f"Training recorded for {person}.")
+        return redirect("person", pk=person.pk)
     return _person_page(request, pk, training_form=form, status=400)
 
 
@@ -88,14 +84,9 @@ def person_request_authorization(request: PageRequest, pk: int) -> HttpResponse:
     # A researcher requests for the people of their group only (as over the API).
     get_object_or_404(permissions.requestable_people(request.person, selectors.person_list()), pk=person.pk)
     form = AuthorizationRequestForm(request.POST, prefix="request")
-    if form.is_valid():
-        try:
-            authorization_request(person=person, by=request.person, **form.cleaned_data)
-        except ValidationError as error:
-            add_service_errors(form, error)
-        else:
-            messages.success(request, f"Authorization requested for {person} on {form.cleaned_data['laser'].asset_tag}.")
-            return redirect("person", pk=person.pk)
+    if submit_to_service(form, lambda values: authorization_request(person=person, by=request.person, **values)):
+        messages.success(request, f"Authorization requested for {person} on {form.cleaned_data['laser'].asset_tag}.")
+        return redirect("person", pk=person.pk)
     return _person_page(request, pk, request_form=form, status=400)
 
 
@@ -125,12 +116,9 @@ def authorization_decide(request: PageRequest, pk: int) -> HttpResponse:
 @page(permissions.PEOPLE, "create")
 def person_new(request: PageRequest) -> HttpResponse:
     form = PersonCreateForm(request.POST or None)
-    if request.method == "POST" and form.is_valid():
-        try:
-            person = person_create(by=request.person, **form.cleaned_data)
-        except ValidationError as error:
-            add_service_errors(form, error)
-        else:
-            messages.success(request, f"{person} was added as {person.get_role_display()}.")
-            return redirect("person", pk=person.pk)
+    person = submit_to_service(form, lambda values: person_create(by=request.person, **values)) \
+        if request.method == "POST" else None
+    if person:
+        messages.success(request, f"{person} was added as {person.get_role_display()}.")
+        return redirect("person", pk=person.pk)
     return render(request, "pages/person_new.html", {"form": form}, status=400 if form.errors else 200)
