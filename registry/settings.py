@@ -201,6 +201,10 @@ REST_FRAMEWORK = {
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     "EXCEPTION_HANDLER": "registry.api.errors.api_exception_handler",
+    # How many proxies of this deployment's own stand in front of it; the address a throttle
+    # counts is then read that far back in X-Forwarded-For. 0: the header is ignored, since
+    # any client can send it.
+    "NUM_PROXIES": env_int("BEAMKEEPER_NUM_PROXIES", 0, minimum=0),
     "DEFAULT_THROTTLE_RATES": {
         "token-sign-in": env_str("API_SIGN_IN_RATE", "10/min"),
         "token-sign-in-username": env_str("API_SIGN_IN_USERNAME_RATE", "5/min"),

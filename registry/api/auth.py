@@ -18,17 +18,35 @@ from registry.schema import error_response
 
 class SignInUsernameThrottle(SimpleRateThrottle):
     """Counts attempts per submitted username, so guessing one account's password from many
-    addresses is throttled as well as many guesses from one address."""
+    addresses is throttled as well as many guesses from one address.
+
+    Keyed on the name as an account would be looked up, trimmed and case-folded, so that
+    " ada", "ADA" and "ada\t" count as one; the address throttle beside it counts the
+    connecting address only, unless REST_FRAMEWORK["NUM_PROXIES"] says how many proxies of
+    the deployment's own to look past in X-Forwarded-For (BEAMKEEPER_NUM_PROXIES, default 0).
+    """
 
     scope = "token-sign-in-username"
 
     def get_cache_key(self, request: Request, view: APIView) -> str | None:
         username = request.data.get("username") if hasattr(request.data, "get") else None
-        if not isinstance(username, str) or not username:
+        if not isinstance(username, str) or not username.strip():
             return None
         # Hashed: a username may hold characters that cache backends refuse in keys.
-        ident = hashlib.sha256(username.casefold().encode()).hexdigest()
+        ident = hashlib.sha256(username.strip().casefold().encode()).hexdigest()
         return self.cache_format % {"scope": self.scope, "ident": ident}
+
+
+class TokenSignInSerializer(AuthTokenSerializer):
+    """DRF's sign-in fields, with the username taken as sent: no account name begins or ends
+    with blanks, and trimming them quietly would let padded names past the throttle above."""
+
+    username = serializers.CharField(label="Username", write_only=True, trim_whitespace=False)
+
+    def validate_username(self, value: str) -> str:
+        if value != value.strip():
+            raise serializers.ValidationError("A username has no spaces, tabs or line breaks around it.")
+        return value
 
 
 class TokenAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
@@ -40,6 +58,7 @@ class TokenSignInView(ObtainAuthToken):
 
     throttle_classes = [ScopedRateThrottle, SignInUsernameThrottle]
     throttle_scope = "token-sign-in"
+    serializer_class = TokenSignInSerializer
     # ObtainAuthToken names DRF's own parsers; anonymous callers get the same bounds as the rest.
     parser_classes = API_PARSERS
 
@@ -51,7 +70,7 @@ class TokenSignInView(ObtainAuthToken):
             "(429 with Retry-After when exceeded)."
         ),
         tags=["sign-in"],
-        request=AuthTokenSerializer,
+        request=TokenSignInSerializer,
         responses={200: TokenAnswerSerializer, 429: error_response("429")},
     )
     def post(self, request: Request, *args: Any, **kwargs: Any) -> Any:
