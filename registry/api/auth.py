@@ -14,26 +14,25 @@ from rest_framework.views import APIView
 
 from registry.api.parsers import API_PARSERS
 from registry.schema import error_response
+from registry.signin import attempt_name
 
 
 class SignInUsernameThrottle(SimpleRateThrottle):
     """Counts attempts per submitted username, so guessing one account's password from many
     addresses is throttled as well as many guesses from one address.
 
-    Keyed on the name as an account would be looked up, trimmed and case-folded, so that
-    " ada", "ADA" and "ada\t" count as one; the address throttle beside it counts the
-    connecting address only, unless REST_FRAMEWORK["NUM_PROXIES"] says how many proxies of
-    the deployment's own to look past in X-Forwarded-For (BEAMKEEPER_NUM_PROXIES, default 0).
+    Keyed on the name as registry.signin counts attempts (trimmed and case-folded); the
+    address throttle beside it (DRF's) reads the address as registry.signin.attempt_address.
     """
 
     scope = "token-sign-in-username"
 
     def get_cache_key(self, request: Request, view: APIView) -> str | None:
-        username = request.data.get("username") if hasattr(request.data, "get") else None
-        if not isinstance(username, str) or not username.strip():
+        name = attempt_name(request.data.get("username") if hasattr(request.data, "get") else None)
+        if name is None:
             return None
         # Hashed: a username may hold characters that cache backends refuse in keys.
-        ident = hashlib.sha256(username.strip().casefold().encode()).hexdigest()
+        ident = hashlib.sha256(name.encode()).hexdigest()
         return self.cache_format % {"scope": self.scope, "ident": ident}
 
 
