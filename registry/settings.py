@@ -4,8 +4,8 @@ Two modes, chosen by BEAMKEEPER_ENV:
 
 - ``development`` (the default): DEBUG on, SQLite beside the code, mail printed to the
   console, a fixed insecure SECRET_KEY that is only ever accepted in this mode.
-- ``production``: refuses to start without SECRET_KEY (or SECRET_KEY_FILE) and
-  ALLOWED_HOSTS, refuses DEBUG, and turns on the HTTPS protections that
+- ``production``: refuses to start without a strong SECRET_KEY (or SECRET_KEY_FILE) of its
+  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and turns on the HTTPS protections that
   ``manage.py check --deploy`` looks for.
 
 See DEVELOPERS.md for the full list of variables.
@@ -16,12 +16,22 @@ from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
-from django.core.exceptions import ImproperlyConfigured
 
 from hazards.caution import CAUTION
 from hazards.classes import LASER_CLASSES
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
-from registry.env import env_bool, env_choice, env_int, env_list, env_mapping, env_secret, env_str, env_time_zone
+from registry.env import (
+    DEVELOPMENT_SECRET_KEY,
+    env_bool,
+    env_choice,
+    env_int,
+    env_list,
+    env_mapping,
+    env_secret,
+    env_str,
+    env_time_zone,
+    refuse_unsafe_production,
+)
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 
@@ -29,20 +39,13 @@ BEAMKEEPER_ENV = env_choice("BEAMKEEPER_ENV", "development", ("development", "pr
 PRODUCTION = BEAMKEEPER_ENV == "production"
 
 _secret_key = env_secret("SECRET_KEY")
-if _secret_key is None:
-    if PRODUCTION:
-        raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs SECRET_KEY or SECRET_KEY_FILE.")
-    # Development only: a key everyone knows, so sessions survive restarts of runserver.
-    _secret_key = "development-only-key-not-secret-do-not-deploy-0123456789abcdef"
-SECRET_KEY = _secret_key
-
 DEBUG = env_bool("DEBUG", default=not PRODUCTION)
-if PRODUCTION and DEBUG:
-    raise ImproperlyConfigured("DEBUG=true is refused when BEAMKEEPER_ENV=production.")
-
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [] if PRODUCTION else ["127.0.0.1", "localhost", "[::1]"])
-if PRODUCTION and not ALLOWED_HOSTS:
-    raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs ALLOWED_HOSTS (comma-separated host names).")
+if PRODUCTION:
+    # Every setting production refuses is refused there, and only there.
+    refuse_unsafe_production(secret_key=_secret_key, debug=DEBUG, allowed_hosts=ALLOWED_HOSTS)
+# Development only: a key everyone knows, so sessions survive restarts of runserver.
+SECRET_KEY = _secret_key or DEVELOPMENT_SECRET_KEY
 CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", [])
 
 INSTALLED_APPS = [
