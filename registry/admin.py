@@ -1,7 +1,9 @@
 """The admin: the LSO's workbench over every model, with history on each record.
 
 Deletion is switched off for lasers and compliance records (they refuse it anyway);
-retire them through the services. Status fields are read-only here so that status
+retire them through the services. Nothing else is deleted here either, except by a
+superuser (one made with ``manage.py createsuperuser``): an LSO's account carries no
+superuser flag, group or raw permission it could change about itself (AccountAdmin). Status fields are read-only here so that status
 changes go through the workflow services and their checks. Every form is a RegisterForm
 (constraints and the read-only rule checked on the form); a read-only record opens as a
 page to read; history can be read, never reverted.
@@ -11,6 +13,8 @@ from __future__ import annotations
 from typing import Any
 
 from django.contrib import admin, messages
+from django.contrib.auth import get_user_model
+from django.contrib.auth.admin import UserAdmin
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.db.models import QuerySet
 from django.forms import BaseModelForm
@@ -75,6 +79,12 @@ def _read_only(record: Any) -> bool:
     return False
 
 
+def _may_delete(request: HttpRequest) -> bool:
+    """Only a superuser deletes through the admin. No one becomes one through the admin
+    without being one already (AccountAdmin), so that is someone made on the command line."""
+    return bool(request.user.is_superuser)
+
+
 class RegisterAdmin(SimpleHistoryAdmin):
     """Base of every admin page of the register."""
 
@@ -85,6 +95,9 @@ class RegisterAdmin(SimpleHistoryAdmin):
         if obj is not None and _read_only(obj):
             return False
         return super().has_change_permission(request, obj)  # type: ignore[no-any-return]
+
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return _may_delete(request) and super().has_delete_permission(request, obj)  # type: ignore[no-any-return]
 
     def history_form_view(self, request: HttpRequest, object_id: str, version_id: str,
                           extra_context: dict[str, Any] | None = None) -> Any:
@@ -127,8 +140,9 @@ class PersonAdmin(RegisterAdmin):
     search_fields = ["user__username", "user__first_name", "user__last_name", "user__email"]
     list_select_related = ["user", "research_group", "supervisor__user"]
     autocomplete_fields = ["supervisor", "research_group"]
-    # The role also decides Django group membership; change it with person_set_role.
-    readonly_fields = ["role"]
+    # The role also decides Django group membership; change it with person_set_role (the API's
+    # person update). Moving a person to another account would hand that account the role.
+    readonly_fields = ["user", "role"]
 
     def has_add_permission(self, request: HttpRequest) -> bool:
         # Accounts and people are created together by person_create (manage.py or the API).
@@ -160,6 +174,9 @@ class EmissionInline(admin.StackedInline):
     # Set by the register when the engine cannot assess the emission.
     readonly_fields = ["assessment_problem"]
     show_change_link = True
+
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return _may_delete(request) and super().has_delete_permission(request, obj)  # type: ignore[no-any-return]
 
 
 @admin.register(Laser)
@@ -374,6 +391,9 @@ class EyewearMarkingInline(admin.TabularInline):
     form = EyewearMarkingForm
     extra = 0
 
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return _may_delete(request) and super().has_delete_permission(request, obj)  # type: ignore[no-any-return]
+
 
 @admin.register(EyewearMarking)
 class EyewearMarkingAdmin(RegisterAdmin):
@@ -477,3 +497,37 @@ class SentReminderAdmin(admin.ModelAdmin):
 
     def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
         return False
+
+
+User = get_user_model()
+admin.site.unregister(User)
+
+
+@admin.register(User)
+class AccountAdmin(UserAdmin):
+    """Accounts as the LSO keeps them: names, email, password, active or not.
+
+    What an account may do follows its person's role (person_set_role sets its group and
+    staff flag), so to anyone but a superuser the superuser and staff flags, groups and raw
+    permissions are read-only, a superuser's account is read-only altogether (its password
+    would open everything), and accounts are added with their person (person_create).
+    """
+
+    PRIVILEGE_FIELDS = ("is_superuser", "is_staff", "groups", "user_permissions")
+
+    def get_readonly_fields(self, request: HttpRequest, obj: Any = None) -> Any:
+        fields = super().get_readonly_fields(request, obj)
+        if request.user.is_superuser:
+            return fields
+        return (*fields, *self.PRIVILEGE_FIELDS, "last_login", "date_joined")
+
+    def has_add_permission(self, request: HttpRequest) -> bool:
+        return bool(request.user.is_superuser) and super().has_add_permission(request)
+
+    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        if obj is not None and obj.is_superuser and not request.user.is_superuser:
+            return False
+        return super().has_change_permission(request, obj)  # type: ignore[no-any-return]
+
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return _may_delete(request) and super().has_delete_permission(request, obj)  # type: ignore[no-any-return]

@@ -11,8 +11,19 @@ import zoneinfo
 
 from django.core.exceptions import ImproperlyConfigured
 
+try:
+    # What `check --deploy` calls a weak key (security.W009): short, few distinct
+    # characters, or Django's "django-insecure-" prefix.
+    from django.core.checks.security.base import _check_secret_key as _strong_secret_key
+except ImportError:  # A Django that renamed its private test: the same criteria.
+    def _strong_secret_key(secret_key: str) -> bool:
+        return len(set(secret_key)) >= 5 and len(secret_key) >= 50 and not secret_key.startswith("django-insecure-")
+
 _TRUE = "true"
 _FALSE = "false"
+
+# Published with the code, so sessions survive restarts of runserver; never a production key.
+DEVELOPMENT_SECRET_KEY = "development-only-key-not-secret-do-not-deploy-0123456789abcdef"
 
 
 def env_str(name: str, default: str | None = None) -> str:
@@ -113,3 +124,25 @@ def env_time_zone(name: str, default: str) -> str:
     except (zoneinfo.ZoneInfoNotFoundError, ValueError):
         raise ImproperlyConfigured(f"The environment variable {name} is not a known time zone: {value!r}.") from None
     return value
+
+
+def refuse_unsafe_production(*, secret_key: str | None, debug: bool, allowed_hosts: list[str]) -> None:
+    """BEAMKEEPER_ENV=production refuses to start on a setting that would leave it open:
+    no SECRET_KEY, a weak one (security.W009) or the published development key; DEBUG on;
+    no ALLOWED_HOSTS, or "*" among them (any Host header accepted, so links in mail and
+    password resets could point anywhere)."""
+    if secret_key is None:
+        raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs SECRET_KEY or SECRET_KEY_FILE.")
+    if secret_key == DEVELOPMENT_SECRET_KEY:
+        raise ImproperlyConfigured("SECRET_KEY is the development key published with the code; "
+                                   "BEAMKEEPER_ENV=production needs a key of its own.")
+    if not _strong_secret_key(secret_key):
+        raise ImproperlyConfigured("SECRET_KEY is too weak for BEAMKEEPER_ENV=production: it needs at least 50 "
+                                   "characters, 5 of them different, and not the 'django-insecure-' prefix "
+                                   "(python -c 'import secrets; print(secrets.token_urlsafe(50))' makes one).")
+    if debug:
+        raise ImproperlyConfigured("DEBUG=true is refused when BEAMKEEPER_ENV=production.")
+    if not allowed_hosts:
+        raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs ALLOWED_HOSTS (comma-separated host names).")
+    if "*" in allowed_hosts:
+        raise ImproperlyConfigured("ALLOWED_HOSTS=* is refused when BEAMKEEPER_ENV=production; name the hosts.")

@@ -4,23 +4,34 @@ Two modes, chosen by BEAMKEEPER_ENV:
 
 - ``development`` (the default): DEBUG on, SQLite beside the code, mail printed to the
   console, a fixed insecure SECRET_KEY that is only ever accepted in this mode.
-- ``production``: refuses to start without SECRET_KEY (or SECRET_KEY_FILE) and
-  ALLOWED_HOSTS, refuses DEBUG, and turns on the HTTPS protections that
+- ``production``: refuses to start without a strong SECRET_KEY (or SECRET_KEY_FILE) of its
+  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and turns on the HTTPS protections that
   ``manage.py check --deploy`` looks for.
 
 See DEVELOPERS.md for the full list of variables.
 """
 from __future__ import annotations
 
+from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
-from django.core.exceptions import ImproperlyConfigured
 
 from hazards.caution import CAUTION
 from hazards.classes import LASER_CLASSES
 from hazards.limits import DEFAULT_LIMITS, LIMIT_SETS
-from registry.env import env_bool, env_choice, env_int, env_list, env_mapping, env_secret, env_str, env_time_zone
+from registry.env import (
+    DEVELOPMENT_SECRET_KEY,
+    env_bool,
+    env_choice,
+    env_int,
+    env_list,
+    env_mapping,
+    env_secret,
+    env_str,
+    env_time_zone,
+    refuse_unsafe_production,
+)
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 
@@ -28,20 +39,13 @@ BEAMKEEPER_ENV = env_choice("BEAMKEEPER_ENV", "development", ("development", "pr
 PRODUCTION = BEAMKEEPER_ENV == "production"
 
 _secret_key = env_secret("SECRET_KEY")
-if _secret_key is None:
-    if PRODUCTION:
-        raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs SECRET_KEY or SECRET_KEY_FILE.")
-    # Development only: a key everyone knows, so sessions survive restarts of runserver.
-    _secret_key = "development-only-key-not-secret-do-not-deploy-0123456789abcdef"
-SECRET_KEY = _secret_key
-
 DEBUG = env_bool("DEBUG", default=not PRODUCTION)
-if PRODUCTION and DEBUG:
-    raise ImproperlyConfigured("DEBUG=true is refused when BEAMKEEPER_ENV=production.")
-
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [] if PRODUCTION else ["127.0.0.1", "localhost", "[::1]"])
-if PRODUCTION and not ALLOWED_HOSTS:
-    raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs ALLOWED_HOSTS (comma-separated host names).")
+if PRODUCTION:
+    # Every setting production refuses is refused there, and only there.
+    refuse_unsafe_production(secret_key=_secret_key, debug=DEBUG, allowed_hosts=ALLOWED_HOSTS)
+# Development only: a key everyone knows, so sessions survive restarts of runserver.
+SECRET_KEY = _secret_key or DEVELOPMENT_SECRET_KEY
 CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", [])
 
 INSTALLED_APPS = [
@@ -57,6 +61,7 @@ INSTALLED_APPS = [
     "drf_spectacular",
     "drf_spectacular_sidecar",
     "simple_history",
+    "axes",
     "registry",
 ]
 
@@ -72,6 +77,8 @@ MIDDLEWARE = [
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     # Records the signed-in user on every history row written during a request.
     "simple_history.middleware.HistoryRequestMiddleware",
+    # Last: answers a sign-in refused by the lockout (AXES_* below).
+    "axes.middleware.AxesMiddleware",
 ]
 
 ROOT_URLCONF = "registry.urls"
@@ -109,6 +116,27 @@ if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
         "timeout": env_int("SQLITE_TIMEOUT_SECONDS", 20, minimum=1),
     })
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+# A password sign-in anywhere (admin, the register's page, the API token) is first checked
+# against django-axes' lockout: BEAMKEEPER_SIGN_IN_FAILURE_LIMIT failures for one account name
+# lock it for BEAMKEEPER_SIGN_IN_LOCKOUT_MINUTES, wherever they came from. Counted per name,
+# not per address, so that a building behind one address is not locked out by one typist.
+# Unlock early with `manage.py axes_reset_username <name>` (see DEVELOPERS.md).
+AUTHENTICATION_BACKENDS = [
+    "axes.backends.AxesStandaloneBackend",
+    "django.contrib.auth.backends.ModelBackend",
+]
+AXES_FAILURE_LIMIT = env_int("BEAMKEEPER_SIGN_IN_FAILURE_LIMIT", 5, minimum=1)
+AXES_COOLOFF_TIME = timedelta(minutes=env_int("BEAMKEEPER_SIGN_IN_LOCKOUT_MINUTES", 30, minimum=1))
+AXES_LOCKOUT_PARAMETERS = ["username"]
+# axes.W006 asks for the address as well; left out on purpose (above). Guessing across many
+# names from one address is met by the token sign-in's address throttle and by the lock on
+# each name it tries.
+SILENCED_SYSTEM_CHECKS = ["axes.W006"]
+AXES_USERNAME_CALLABLE = "registry.signin.axes_username"
+AXES_CLIENT_IP_CALLABLE = "registry.signin.attempt_address"
+AXES_RESET_ON_SUCCESS = True
+AXES_LOCKOUT_TEMPLATE = "pages/locked_out.html"
 
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
@@ -201,6 +229,10 @@ REST_FRAMEWORK = {
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     "EXCEPTION_HANDLER": "registry.api.errors.api_exception_handler",
+    # How many proxies of this deployment's own stand in front of it; the address a throttle
+    # counts is then read that far back in X-Forwarded-For. 0: the header is ignored, since
+    # any client can send it.
+    "NUM_PROXIES": env_int("BEAMKEEPER_NUM_PROXIES", 0, minimum=0),
     "DEFAULT_THROTTLE_RATES": {
         "token-sign-in": env_str("API_SIGN_IN_RATE", "10/min"),
         "token-sign-in-username": env_str("API_SIGN_IN_USERNAME_RATE", "5/min"),

@@ -55,6 +55,42 @@ class TokenSignInTests(TestCase):
                     for number in range(11)]
         self.assertEqual(statuses, [400] * 10 + [429])
 
+    def test_padded_and_recased_names_count_as_one_account_and_never_sign_in(self) -> None:
+        names = [" ada", "ADA\t", "Ada ", "\nada", "ada"]
+        answers = [APIClient().post(SIGN_IN, {"username": name, "password": "guess"}, format="json")
+                   for name in names]
+        # Each padded name is refused, naming the field; each attempt still counts for "ada".
+        for answer in answers[:4]:
+            self.assertEqual(answer.status_code, 400)
+            self.assertIn("username", answer.json())
+        self.assertEqual(answers[4].status_code, 400)
+        blocked = APIClient().post(SIGN_IN, {"username": "Ada", "password": "correct horse battery"}, format="json")
+        self.assertEqual(blocked.status_code, 429)
+        self.assertFalse(Token.objects.exists())
+
+    def test_a_padded_name_with_the_right_password_gets_no_token(self) -> None:
+        response = APIClient().post(SIGN_IN, {"username": " ada", "password": "correct horse battery"}, format="json")
+        self.assertEqual(response.status_code, 400)
+        self.assertEqual(list(response.json()), ["username"])
+        self.assertFalse(Token.objects.exists())
+
+    def test_a_new_forwarded_address_per_request_is_still_one_address(self) -> None:
+        client = APIClient()
+        statuses = [client.post(SIGN_IN, {"username": f"guess{number}", "password": "x"}, format="json",
+                                HTTP_X_FORWARDED_FOR=f"198.51.100.{number}").status_code
+                    for number in range(11)]
+        self.assertEqual(statuses, [400] * 10 + [429])
+
+    def test_padded_names_from_new_forwarded_addresses_are_throttled_on_the_account(self) -> None:
+        names = [" ada", "Ada\t", "ADA", " ADA ", "ada\n"]
+        for number, name in enumerate(names):
+            APIClient().post(SIGN_IN, {"username": name, "password": "guess"}, format="json",
+                             HTTP_X_FORWARDED_FOR=f"203.0.113.{number}", REMOTE_ADDR=f"192.0.2.{number}")
+        blocked = APIClient().post(SIGN_IN, {"username": "ada", "password": "correct horse battery"},
+                                   format="json", HTTP_X_FORWARDED_FOR="203.0.113.99", REMOTE_ADDR="192.0.2.99")
+        self.assertEqual(blocked.status_code, 429)
+        self.assertFalse(Token.objects.exists())
+
 
 class AnonymousTests(TestCase):
     def test_anonymous_callers_get_401_with_a_challenge_except_for_schema_and_docs(self) -> None:

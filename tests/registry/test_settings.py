@@ -8,9 +8,21 @@ import sys
 from pathlib import Path
 
 import pytest
+from django.conf import settings
 from django.core.exceptions import ImproperlyConfigured
 
-from registry.env import env_bool, env_choice, env_int, env_list, env_mapping, env_secret, env_str, env_time_zone
+from registry.env import (
+    DEVELOPMENT_SECRET_KEY,
+    env_bool,
+    env_choice,
+    env_int,
+    env_list,
+    env_mapping,
+    env_secret,
+    env_str,
+    env_time_zone,
+    refuse_unsafe_production,
+)
 
 ROOT = Path(__file__).resolve().parents[2]
 
@@ -31,8 +43,13 @@ def test_production_settings_pass_the_deployment_checks() -> None:
                         SECRET_KEY=PRODUCTION_KEY, ALLOWED_HOSTS="register.campus.example",
                         EMAIL_HOST="smtp.campus.example")
     assert result.returncode == 0, result.stderr
-    assert "System check identified no issues (0 silenced)." in result.stdout
+    # The one check silenced is axes.W006, on purpose (registry/settings.py says why).
+    assert "System check identified no issues (1 silenced)." in result.stdout
     assert result.stderr == ""
+
+
+def test_the_only_silenced_check_is_the_lockout_by_address() -> None:
+    assert settings.SILENCED_SYSTEM_CHECKS == ["axes.W006"]
 
 
 def test_production_refuses_to_start_without_a_secret_key() -> None:
@@ -46,6 +63,38 @@ def test_production_refuses_debug() -> None:
                         ALLOWED_HOSTS="register.campus.example", DEBUG="true")
     assert result.returncode != 0
     assert "DEBUG=true is refused when BEAMKEEPER_ENV=production." in result.stderr
+
+
+@pytest.mark.parametrize(("key", "message"), [
+    (DEVELOPMENT_SECRET_KEY, "SECRET_KEY is the development key published with the code"),
+    ("short-but-varied-0123456789", "SECRET_KEY is too weak"),
+    ("a" * 64, "SECRET_KEY is too weak"),
+    ("django-insecure-" + PRODUCTION_KEY, "SECRET_KEY is too weak"),
+])
+def test_production_refuses_a_weak_or_published_secret_key(key: str, message: str) -> None:
+    with pytest.raises(ImproperlyConfigured, match=message):
+        refuse_unsafe_production(secret_key=key, debug=False, allowed_hosts=["register.campus.example"])
+
+
+def test_production_refuses_any_host() -> None:
+    with pytest.raises(ImproperlyConfigured, match=r"ALLOWED_HOSTS=\* is refused"):
+        refuse_unsafe_production(secret_key=PRODUCTION_KEY, debug=False,
+                                 allowed_hosts=["register.campus.example", "*"])
+
+
+def test_production_accepts_a_strong_key_and_named_hosts() -> None:
+    assert refuse_unsafe_production(secret_key=PRODUCTION_KEY, debug=False,
+                                    allowed_hosts=["register.campus.example", ".campus.example"]) is None
+
+
+def test_production_refuses_the_published_key_and_any_host_at_start() -> None:
+    published = run_manage("check", BEAMKEEPER_ENV="production", SECRET_KEY=DEVELOPMENT_SECRET_KEY,
+                           ALLOWED_HOSTS="register.campus.example")
+    assert published.returncode != 0
+    assert "SECRET_KEY is the development key published with the code" in published.stderr
+    any_host = run_manage("check", BEAMKEEPER_ENV="production", SECRET_KEY=PRODUCTION_KEY, ALLOWED_HOSTS="*")
+    assert any_host.returncode != 0
+    assert "ALLOWED_HOSTS=* is refused" in any_host.stderr
 
 
 def test_production_without_mail_gets_a_deployment_warning() -> None:
