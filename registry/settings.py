@@ -199,7 +199,7 @@ REST_FRAMEWORK = {
         "registry.filters.BoundedSearchFilter",
     ],
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
-    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "DEFAULT_SCHEMA_CLASS": "registry.schema.RegisterAutoSchema",
     "EXCEPTION_HANDLER": "registry.api.errors.api_exception_handler",
     "DEFAULT_THROTTLE_RATES": {
         "token-sign-in": env_str("API_SIGN_IN_RATE", "10/min"),
