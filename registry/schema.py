@@ -1,18 +1,19 @@
-"""OpenAPI additions: how quantity fields are described, and the error answers.
+"""OpenAPI additions: how quantity fields are described, If-Match, and the error answers.
 
 drf-spectacular documents the success answers it can see in the code; the errors DRF
 produces on its own (validation, authentication, permission, not found) and the ones the
-API adds (stale If-Match) are added here so that clients, and schemathesis, can rely on
-every status the API really sends being in the schema.
+API adds (stale or missing If-Match) are added here so that clients, and schemathesis, can
+rely on every status the API really sends being in the schema.
 """
 from __future__ import annotations
 
 from typing import Any
 
 from drf_spectacular.extensions import OpenApiSerializerFieldExtension
+from drf_spectacular.openapi import AutoSchema
 from drf_spectacular.plumbing import build_basic_type
 from drf_spectacular.types import OpenApiTypes
-from drf_spectacular.utils import OpenApiResponse
+from drf_spectacular.utils import OpenApiParameter, OpenApiResponse
 
 from registry.serializers.fields import QUANTITY_TEXT_PATTERN, QuantityField
 
@@ -76,6 +77,40 @@ class QuantityFieldExtension(OpenApiSerializerFieldExtension):
         return schema
 
 
+class RegisterAutoSchema(AutoSchema):
+    """drf-spectacular's operations, with the If-Match header the ETag code reads.
+
+    PUT and PATCH (UpdateWithETagMixin.update) require it: 428 without it. Every workflow
+    step, the POST actions on one record (RegisterViewSet.workflow_step), checks it when it is
+    sent. Either way a stale one is a 412; add_error_responses documents both from here.
+    """
+
+    def get_override_parameters(self) -> list[Any]:
+        parameters = list(super().get_override_parameters())
+        required = self._if_match_required()
+        if required is not None:
+            parameters.append(OpenApiParameter(
+                "If-Match", OpenApiTypes.STR, OpenApiParameter.HEADER, required=required,
+                description=("The ETag of the record as last read (retrieve and every write answer "
+                             "with one); a record changed since gives 412 and nothing is saved. "
+                             + ("Required: 428 without it." if required else
+                                "Optional: a step sent without it acts on the record as it is."))))
+        return parameters
+
+    def _if_match_required(self) -> bool | None:
+        """True where the request must send If-Match, False where it may, None where it is not read."""
+        # Imported here: DRF reads this class from the settings while defining its views.
+        from registry.api.base import RegisterViewSet
+        from registry.api.etags import UpdateWithETagMixin
+
+        view = self.view
+        if isinstance(view, UpdateWithETagMixin) and self.method in {"PUT", "PATCH"}:
+            return True
+        if isinstance(view, RegisterViewSet) and getattr(view, "detail", False) and self.method == "POST":
+            return False
+        return None
+
+
 def add_error_responses(result: dict[str, Any], generator: Any, request: Any, public: bool) -> dict[str, Any]:
     """Postprocessing hook: document the error statuses each operation can answer with."""
     schemas = result.setdefault("components", {}).setdefault("schemas", {})
@@ -106,6 +141,12 @@ def _error_statuses(path: str, method: str, operation: dict[str, Any]) -> list[s
         statuses.append("404")
     if method in {"post", "put", "patch"}:
         statuses.append("415")
-    if method in {"put", "patch"}:
-        statuses += ["412", "428"]
+    if_match = [parameter for parameter in operation.get("parameters", [])
+                if parameter.get("in") == "header" and parameter.get("name") == "If-Match"]
+    if if_match:
+        # The record is locked for the change (RegisterAutoSchema): a read-only one, or one in a
+        # state the change does not allow, is a 409.
+        statuses += ["409", "412"]
+        if if_match[0].get("required"):
+            statuses.append("428")
     return statuses

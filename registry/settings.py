@@ -227,7 +227,7 @@ REST_FRAMEWORK = {
         "registry.filters.BoundedSearchFilter",
     ],
     "DEFAULT_PAGINATION_CLASS": "registry.api.pagination.BoundedPagination",
-    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "DEFAULT_SCHEMA_CLASS": "registry.schema.RegisterAutoSchema",
     "EXCEPTION_HANDLER": "registry.api.errors.api_exception_handler",
     # How many proxies of this deployment's own stand in front of it; the address a throttle
     # counts is then read that far back in X-Forwarded-For. 0: the header is ignored, since

@@ -1,4 +1,4 @@
-"""/api/v1/: the register's viewsets, evaluation, token sign-in, schema and docs."""
+"""/api/v1/: an index, the register's viewsets, evaluation, token sign-in, schema and docs."""
 from __future__ import annotations
 
 from django.urls import include, path
@@ -32,7 +32,12 @@ router.register("audits", AuditViewSet, basename="audit")
 router.register("findings", FindingViewSet, basename="finding")
 router.register("incidents", IncidentViewSet, basename="incident")
 
+# /api/v1/ links each collection the router serves (by its list route), then the other entry points.
+INDEX = {prefix: f"{basename}-list" for prefix, _viewset, basename in router.registry} | {
+    "evaluate": "evaluate", "auth-token": "token", "schema": "schema", "docs": "docs", "redoc": "redoc"}
+
 urlpatterns = [
+    path("", docs.IndexView.as_view(api_root_dict=INDEX), name="index"),
     path("schema/", docs.SchemaView.as_view(), name="schema"),
     path("docs/", docs.SwaggerDocsView.as_view(url_name="api:schema"), name="docs"),
     path("docs/redoc/", docs.RedocDocsView.as_view(url_name="api:schema"), name="redoc"),

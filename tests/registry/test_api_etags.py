@@ -2,14 +2,18 @@
 from __future__ import annotations
 
 import threading
+from typing import Any
 
 import pytest
-from django.db import connection
+from django.db import connection, transaction
 from django.test import TestCase, TransactionTestCase
+from drf_spectacular.generators import SchemaGenerator
 from rest_framework.test import APIClient
 
 from registry import services
 from registry.models import Laser, Person
+from tests.registry.api_world import World, build_world, register_state
+from tests.registry.test_api_permissions import ROWS
 
 
 def _register(*, asset_tag: str = "ET-0001") -> tuple[Person, Person, Laser]:
@@ -123,3 +127,70 @@ class ConcurrentEditTests(TransactionTestCase):
         laser.refresh_from_db()
         self.assertEqual(laser.description, winner)
         self.assertEqual(laser.history.filter(description__startswith="edit by").count(), 1)
+
+
+class IfMatchInTheSchemaTests(TestCase):
+    """Issue 9: the schema says where If-Match is read, and the server does what it says."""
+
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+        cls.operations = {
+            (method, path): operation
+            for path, item in SchemaGenerator().get_schema(request=None, public=True)["paths"].items()
+            for method, operation in item.items() if method in {"get", "post", "put", "patch", "delete"}}
+
+    def _if_match(self, operation: dict[str, Any]) -> dict[str, Any] | None:
+        return next((parameter for parameter in operation.get("parameters", [])
+                     if parameter["in"] == "header" and parameter["name"] == "If-Match"), None)
+
+    def test_every_update_requires_it_and_every_workflow_step_offers_it_with_the_answers(self) -> None:
+        updates = steps = 0
+        for (method, path), operation in sorted(self.operations.items()):
+            with self.subTest(operation=f"{method} {path}"):
+                if_match = self._if_match(operation)
+                if method in {"put", "patch"}:
+                    updates += 1
+                    self.assertIsNotNone(if_match)
+                    self.assertIs(if_match["required"], True)
+                    self.assertLessEqual({"409", "412", "428"}, operation["responses"].keys())
+                elif method == "post" and "{id}" in path:
+                    # A workflow step on one record (RegisterViewSet.workflow_step).
+                    steps += 1
+                    self.assertIsNotNone(if_match)
+                    self.assertIs(if_match.get("required", False), False)
+                    self.assertLessEqual({"409", "412"}, operation["responses"].keys())
+                    self.assertNotIn("428", operation["responses"])
+                else:
+                    self.assertIsNone(if_match)
+                    self.assertNotIn("412", operation["responses"])
+        # PUT and PATCH on ten collections; 19 steps and seven collections' retire.
+        self.assertEqual(updates, 20)
+        self.assertEqual(steps, 26)
+
+    def test_each_operation_declaring_it_answers_412_to_a_stale_one_and_428_if_required_and_missing(self) -> None:
+        rows = {(row.method, row.template): row for row in ROWS.values()}
+        checked = 0
+        for (method, path), operation in sorted(self.operations.items()):
+            if_match = self._if_match(operation)
+            if if_match is None:
+                continue
+            row = rows[(method, path)]
+            checked += 1
+            with self.subTest(operation=f"{method} {path}"), transaction.atomic():
+                before = register_state()
+                client = self.world.client("lso")
+                body = row.body(self.world) if row.body else None
+                stale = getattr(client, method)(row.path(self.world), body, format="json",
+                                                HTTP_IF_MATCH='"0123456789abcdef0123456789abcdef"')
+                self.assertEqual(stale.status_code, 412, stale.content[:300])
+                missing = getattr(client, method)(row.path(self.world), body, format="json")
+                if if_match.get("required", False):
+                    self.assertEqual(missing.status_code, 428, missing.content[:300])
+                    self.assertEqual(register_state(), before)
+                else:
+                    self.assertNotIn(missing.status_code, {412, 428}, missing.content[:300])
+                transaction.set_rollback(True)
+        self.assertEqual(checked, 46)
