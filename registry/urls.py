@@ -17,6 +17,7 @@ urlpatterns = [
     path("logout/", auth_views.LogoutView.as_view(), name="logout"),
     path("lasers/", lasers.register, name="register"),
     path("lasers/export.csv", lasers.register_csv, name="register-csv"),
+    path("lasers/export.xlsx", lasers.register_xlsx_export, name="register-xlsx"),
     path("lasers/new/", lasers.laser_new, name="laser-new"),
     path("lasers/<int:pk>/", lasers.laser_detail, name="laser"),
     path("lasers/<int:pk>/resubmit/", lasers.laser_resubmit, name="laser-resubmit"),

@@ -110,6 +110,12 @@ COLUMNS: tuple[Column, ...] = (
     Column("longest wavelength", "wavelength_max_m", "emission", aliases=("wavelength max",)),
 )
 
+# Columns the register's export adds after the import's (registry.exports): hazard figures under one
+# limit set and the caution, for people to read. The import skips them, so that an exported sheet
+# reads back; figures are computed from the emissions, never imported.
+FIGURE_COLUMNS: tuple[str, ...] = ("nohd", "required od", "en 207 marking", "eye exposure duration", "limit set",
+                                   "caution")
+
 # A bare number: what a cell holds when its unit is missing. Anchored and without nested
 # repetition, so it runs in linear time on any cell.
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?")
@@ -128,6 +134,7 @@ _COLUMNS_BY_KEY: dict[str, Column] = {
     header_key(name): column for column in COLUMNS for name in (column.name, *column.aliases)
 }
 _COLUMNS_BY_FIELD: dict[str, Column] = {column.field: column for column in COLUMNS}
+_FIGURE_KEYS = frozenset(header_key(name) for name in FIGURE_COLUMNS)
 
 
 # --- Reading a file --------------------------------------------------------------------
@@ -359,6 +366,8 @@ class _Import:
                 unnamed.append(index)
                 continue
             name, unit = _split_unit(text)
+            if header_key(text) in _FIGURE_KEYS:
+                continue
             column = _COLUMNS_BY_KEY.get(header_key(name))
             if column is None:
                 accepted = ", ".join(known.name for known in COLUMNS)

@@ -59,6 +59,7 @@ class PageAccessTests(TestCase):
             "/": (302, 200, 200, 200, 200, 200),
             "/lasers/": (302, 200, 200, 200, 200, 200),
             "/lasers/export.csv": (302, 200, 200, 200, 200, 200),
+            "/lasers/export.xlsx": (302, 200, 200, 200, 200, 200),
             "/lasers/new/": (302, 200, 403, 200, 200, 403),
             # The user's request on TST-0001 is pending: outside their scope, "not found".
             f"/lasers/{w.laser.pk}/": (302, 200, 200, 200, 200, 404),
