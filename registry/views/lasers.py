@@ -54,6 +54,7 @@ def register(request: PageRequest) -> HttpResponse:
         "buildings": Location.objects.order_by("building").values_list("building", flat=True).distinct(),
         "owners": Person.objects.select_related("user").filter(lasers__isnull=False).distinct(),
         "selected": {name: request.GET.getlist(name) for name in ("labelled_class", "status")},
+        "can_import": permissions.LASERS.allows(request.person, "import"),
     })
 
 
