@@ -281,6 +281,18 @@ class PersonCreateForm(forms.Form):
         return self.cleaned_data["password"] or None
 
 
+class LaserImportForm(forms.Form):
+    """The import page's upload; the file's size and content are checked by the import service."""
+
+    file = forms.FileField(label=_("Spreadsheet (.csv or .xlsx)"),
+                           help_text=_("One row per emission, the first row naming the columns; "
+                                       "the register's own CSV or XLSX export reads back as it is."),
+                           widget=forms.ClearableFileInput(attrs={"accept": ".csv,.xlsx"}))
+    create_locations = forms.BooleanField(
+        label=_("Create the rooms the register does not have yet"), required=False,
+        help_text=_("Otherwise a building and room the register does not know is reported as a problem."))
+
+
 class IncidentReportForm(forms.Form):
     kind = forms.ChoiceField(label=_("Kind"), choices=IncidentKind.choices)
     occurred_at = forms.DateTimeField(label=_("When it happened"),

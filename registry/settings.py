@@ -12,6 +12,7 @@ See DEVELOPERS.md for the full list of variables.
 """
 from __future__ import annotations
 
+import tempfile
 from datetime import timedelta
 from pathlib import Path
 
@@ -170,6 +171,9 @@ STATIC_URL = "static/"
 STATIC_ROOT = Path(env_str("STATIC_ROOT", str(BASE_DIR / "staticfiles")))
 MEDIA_URL = "media/"
 MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
+# Sheets uploaded to the import page, kept between their dry run and its confirmation
+# (registry.services.import_uploads); every process serving the pages must see the same folder.
+IMPORT_UPLOAD_DIR = Path(env_str("IMPORT_UPLOAD_DIR", str(Path(tempfile.gettempdir()) / "beamkeeper-imports")))
 
 # The register's own sign-in page, for every role (the admin keeps refusing researchers and users).
 LOGIN_URL = "login"

@@ -8,7 +8,7 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from registry.views import home, incidents, lasers, people, places, review
+from registry.views import home, imports, incidents, lasers, people, places, review
 
 urlpatterns = [
     path("", home.home, name="home"),
@@ -17,7 +17,10 @@ urlpatterns = [
     path("logout/", auth_views.LogoutView.as_view(), name="logout"),
     path("lasers/", lasers.register, name="register"),
     path("lasers/export.csv", lasers.register_csv, name="register-csv"),
+    path("lasers/export.xlsx", lasers.register_xlsx_export, name="register-xlsx"),
     path("lasers/new/", lasers.laser_new, name="laser-new"),
+    path("lasers/import/", imports.laser_import_upload, name="laser-import"),
+    path("lasers/import/confirm/", imports.laser_import_confirmation, name="laser-import-confirm"),
     path("lasers/<int:pk>/", lasers.laser_detail, name="laser"),
     path("lasers/<int:pk>/resubmit/", lasers.laser_resubmit, name="laser-resubmit"),
     path("lasers/<int:pk>/emissions/<int:emission_pk>/mpe.svg", lasers.mpe_chart, name="chart-mpe"),

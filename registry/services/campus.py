@@ -251,13 +251,14 @@ class _Loader:
                 "last_inspected_on": self.day(row.get("inspected")),
             })
             for marking in row.get("markings", []):
+                # A band is often marked twice, "D 740-1070 LB5 + IRM 740-1070 LB7": one row per test letters.
                 self.upsert(EyewearMarking, {
                     "eyewear": eyewear,
                     "wavelength_min_m": quantity(marking["from"], field="from", unit="m"),
                     "wavelength_max_m": quantity(marking["to"], field="to", unit="m"),
+                    "en207_conditions": marking.get("en207", ""),
                 }, {
-                    "optical_density": marking.get("od"), "en207_conditions": marking.get("en207", ""),
-                    "en207_scale": marking.get("lb"),
+                    "optical_density": marking.get("od"), "en207_scale": marking.get("lb"),
                 })
 
     def load_audits(self) -> None:

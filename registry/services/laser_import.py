@@ -18,7 +18,9 @@ with any bad row: either every row is written or none is.
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
+import json
 import math
 import re
 import zipfile
@@ -110,6 +112,12 @@ COLUMNS: tuple[Column, ...] = (
     Column("longest wavelength", "wavelength_max_m", "emission", aliases=("wavelength max",)),
 )
 
+# Columns the register's export adds after the import's (registry.exports): hazard figures under one
+# limit set and the caution, for people to read. The import skips them, so that an exported sheet
+# reads back; figures are computed from the emissions, never imported.
+FIGURE_COLUMNS: tuple[str, ...] = ("nohd", "required od", "en 207 marking", "eye exposure duration", "limit set",
+                                   "caution")
+
 # A bare number: what a cell holds when its unit is missing. Anchored and without nested
 # repetition, so it runs in linear time on any cell.
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?")
@@ -128,6 +136,7 @@ _COLUMNS_BY_KEY: dict[str, Column] = {
     header_key(name): column for column in COLUMNS for name in (column.name, *column.aliases)
 }
 _COLUMNS_BY_FIELD: dict[str, Column] = {column.field: column for column in COLUMNS}
+_FIGURE_KEYS = frozenset(header_key(name) for name in FIGURE_COLUMNS)
 
 
 # --- Reading a file --------------------------------------------------------------------
@@ -250,9 +259,22 @@ class ImportReport:
     # Not errors: emissions saved without hazard figures, with the engine's reason.
     notes: list[ImportProblem] = field(default_factory=list)
 
+    # A confirmed import whose changes were not those of the dry run it confirmed (see laser_import).
+    moved_since_dry_run: bool = False
+
     @property
     def written(self) -> bool:
-        return not self.dry_run and not self.problems
+        return not self.dry_run and not self.problems and not self.moved_since_dry_run
+
+    def fingerprint(self) -> str:
+        """A digest of what the import does: each laser's action and changes, and the locations created.
+
+        Two runs with the same fingerprint make the same changes, so a confirmation can check that it
+        writes what its dry run showed.
+        """
+        done = {"lasers": [[outcome.asset_tag, outcome.action, outcome.changes] for outcome in self.lasers],
+                "locations": self.locations_created}
+        return hashlib.sha256(json.dumps(done, sort_keys=True).encode()).hexdigest()
 
     def count(self, action: Action) -> int:
         return sum(1 for outcome in self.lasers if outcome.action == action)
@@ -359,6 +381,8 @@ class _Import:
                 unnamed.append(index)
                 continue
             name, unit = _split_unit(text)
+            if header_key(text) in _FIGURE_KEYS:
+                continue
             column = _COLUMNS_BY_KEY.get(header_key(name))
             if column is None:
                 accepted = ", ".join(known.name for known in COLUMNS)
@@ -594,6 +618,7 @@ class _Import:
         laser = matches[0]
         changed = {name: value for name, value in fields.items() if not _same_field(laser, name, value)}
         if changed:
+            outcome.action = "update"
             outcome.changes += [_change(self.header_of(name), getattr(laser, name), value)
                                 for name, value in changed.items()]
             laser_update(laser=laser, by=self.by, **changed)
@@ -714,12 +739,16 @@ def _free_location_code(building: str, room: str) -> str:
     return code
 
 
-def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_locations: bool = False) -> ImportReport:
+def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_locations: bool = False,
+                 expected: str | None = None) -> ImportReport:
     """Apply ``table`` to the register as ``by`` (an LSO), or report what it would do (``dry_run``).
 
     Every row is checked, and every problem reported; if there is any, nothing is written.
     Unknown rooms are reported, or created with ``create_locations``. A laser or emission whose
     values already match the sheet is not saved, so importing the same file again writes nothing.
+    ``expected`` is the fingerprint of the dry run being confirmed: when the import would now
+    make other changes (the register moved in between), nothing is written and the report says
+    so (``moved_since_dry_run``), with what the import would do now.
     """
     require_role(by, Role.LSO, action="import lasers")
     report = ImportReport(source=table.source, dry_run=dry_run)
@@ -733,7 +762,8 @@ def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_loca
             # A laser whose own values are in doubt is not written; its problems are reported already.
             if not sheet_laser.rows[0].bad & _LASER_SIDE:
                 run.apply(sheet_laser)
-        if dry_run or report.problems:
+        report.moved_since_dry_run = expected is not None and not report.problems and report.fingerprint() != expected
+        if dry_run or report.problems or report.moved_since_dry_run:
             transaction.set_rollback(True)
     report.problems.sort(key=lambda problem: problem.line)
     if report.problems:

@@ -1,4 +1,4 @@
-"""The register, its CSV, one laser (figures, working, charts, history) and registering a laser."""
+"""The register, its CSV and XLSX, one laser (figures, working, charts, history) and registering a laser."""
 from __future__ import annotations
 
 from typing import Any
@@ -13,7 +13,7 @@ from django.shortcuts import get_object_or_404, redirect, render
 from hazards.limits import LIMIT_SETS
 from registry import permissions, selectors
 from registry.charts import eye_mpe_chart, hazard_distance_chart
-from registry.exports import register_dataset
+from registry.exports import XLSX_CONTENT_TYPE, register_dataset, register_xlsx
 from registry.filters import LaserFilter
 from registry.forms import EmissionFormSet, LaserRegistrationForm, add_service_errors
 from registry.models import Emission, Laser, LaserClass, LaserStatus, Location, Person
@@ -54,6 +54,7 @@ def register(request: PageRequest) -> HttpResponse:
         "buildings": Location.objects.order_by("building").values_list("building", flat=True).distinct(),
         "owners": Person.objects.select_related("user").filter(lasers__isnull=False).distinct(),
         "selected": {name: request.GET.getlist(name) for name in ("labelled_class", "status")},
+        "can_import": permissions.LASERS.allows(request.person, "import"),
     })
 
 
@@ -63,13 +64,25 @@ def _without(query: QueryDict, name: str) -> str:
     return copy.urlencode()
 
 
+def _download(content: str | bytes, content_type: str, filename: str) -> HttpResponse:
+    response = HttpResponse(content, content_type=content_type)
+    response["Content-Disposition"] = f'attachment; filename="{filename}"'
+    return response
+
+
 @page(permissions.LASERS, "list")
 def register_csv(request: PageRequest) -> HttpResponse:
     limits = _chosen_limits(request)
     _, lasers = _filtered(request, limits)
-    response = HttpResponse(register_dataset(lasers, limits=limits).export("csv"), content_type="text/csv")
-    response["Content-Disposition"] = 'attachment; filename="laser-register.csv"'
-    return response
+    return _download(register_dataset(lasers, limits=limits).export("csv"), "text/csv", "laser-register.csv")
+
+
+@page(permissions.LASERS, "list")
+def register_xlsx_export(request: PageRequest) -> HttpResponse:
+    limits = _chosen_limits(request)
+    _, lasers = _filtered(request, limits)
+    return _download(register_xlsx(register_dataset(lasers, limits=limits)), XLSX_CONTENT_TYPE,
+                     "laser-register.xlsx")
 
 
 @page(permissions.LASERS, "retrieve")

@@ -200,6 +200,14 @@ def test_a_dry_run_reports_what_would_change_and_writes_nothing(tmp_path: Path, 
     assert Laser.objects.get(asset_tag="DRY-2").labelled_class == "3B"
 
 
+def test_a_change_to_the_laser_alone_is_an_update(tmp_path: Path, lso: Person, owner: Person,
+                                                 room: Location) -> None:
+    run(write_csv(tmp_path / "first", [HEADER, row("CLS-1", "4", "main", "cw", "532 nm", "50 mW")]), lso)
+    report = run(write_csv(tmp_path / "second", [HEADER, row("CLS-1", "3B", "main", "cw", "532 nm", "50 mW")]), lso)
+    assert [(outcome.action, outcome.changes) for outcome in report.lasers] == [("update", ["class: 4 -> 3B"])]
+    assert Laser.objects.get(asset_tag="CLS-1").labelled_class == "3B"
+
+
 def test_an_update_goes_through_the_services_as_the_lso(tmp_path: Path, lso: Person, owner: Person,
                                                         room: Location) -> None:
     run(write_csv(tmp_path / "first", [HEADER, row("UPD-1", "3B", "main", "cw", "532 nm", "50 mW")]), lso)

@@ -59,7 +59,9 @@ class PageAccessTests(TestCase):
             "/": (302, 200, 200, 200, 200, 200),
             "/lasers/": (302, 200, 200, 200, 200, 200),
             "/lasers/export.csv": (302, 200, 200, 200, 200, 200),
+            "/lasers/export.xlsx": (302, 200, 200, 200, 200, 200),
             "/lasers/new/": (302, 200, 403, 200, 200, 403),
+            "/lasers/import/": (302, 200, 403, 403, 403, 403),
             # The user's request on TST-0001 is pending: outside their scope, "not found".
             f"/lasers/{w.laser.pk}/": (302, 200, 200, 200, 200, 404),
             f"/lasers/{w.authorized_laser.pk}/": (302, 200, 200, 200, 200, 200),
@@ -83,7 +85,7 @@ class PageAccessTests(TestCase):
 
     def test_pages_carry_no_inline_script_or_style_so_a_strict_csp_needs_no_exception(self) -> None:
         w = self.world
-        for path in ("/login/", "/", "/lasers/", f"/lasers/{w.laser.pk}/", "/lasers/new/", "/review/",
+        for path in ("/login/", "/", "/lasers/", f"/lasers/{w.laser.pk}/", "/lasers/new/", "/lasers/import/", "/review/",
                      f"/locations/{w.room.pk}/", "/people/", f"/people/{w.user.pk}/", "/people/new/", "/incidents/new/"):
             with self.subTest(path=path):
                 html = _client(w, "anonymous" if path == "/login/" else "lso").get(path).content.decode()
@@ -101,6 +103,7 @@ class PageAccessTests(TestCase):
             ("owner", f"/authorizations/{w.authorization.pk}/decision/"): {"approve": "1"},
             ("outsider", f"/people/{w.user.pk}/authorizations/"): {"request-laser": w.laser.pk},
             ("owner", "/people/new/"): {"username": "nia", "role": "lso"},
+            ("inspector", "/lasers/import/confirm/"): {"token": "anything"},
         }
         for (persona, path), data in posts.items():
             with self.subTest(persona=persona, path=path):

@@ -208,3 +208,47 @@ def test_the_room_page_flags_the_room_whose_goggles_are_inadequate(open_page: An
     lso.get_by_role("link", name="Jonah Pereira").click()
     expect(lso.get_by_role("region", name="Decide: FV-0001")).to_contain_text("has no valid general laser safety training")
     _shot(lso, "person-with-a-pending-request")
+
+
+def test_the_lso_uploads_a_sheet_sees_the_dry_run_with_its_bad_rows_then_confirms_the_corrected_one(
+        open_page: Any, campus: str, tmp_path: Path, settings: Any) -> None:
+    settings.IMPORT_UPLOAD_DIR = tmp_path / "imports"
+    header = "asset tag,laser type,class,status,building,room,owner,emission,mode,wavelength,average power,beam diameter,divergence"
+    rows = ["MV-0001,diode,3B,active,Kestrel Building,1.07,researcher,main,cw,1.064 um,50 mW,2 mm,1 mrad",
+            "",
+            "MV-0002 ,solid state,4,active,Kestrel Building,0.12 ,researcher,fundamental,cw,1064 nm,2 W,3 mm,0.8 mrad",
+            "mv-0002,solid state,3B,active,Kestrel Building,0.12,researcher,harmonic,cw,532 nm,500,3 mm,0.8 mrad"]
+    messy = tmp_path / "moving-in.csv"
+    messy.write_text("\n".join([header, *rows]) + "\n", encoding="utf-8")
+    lso = open_page("lso")
+    lso.get_by_role("link", name="Import from a spreadsheet").click()
+    expect(lso.get_by_role("heading", name="Import lasers from a spreadsheet")).to_be_visible()
+    lso.get_by_label("Spreadsheet (.csv or .xlsx)").set_input_files(str(messy))
+    lso.get_by_role("button", name="Upload and see the dry run").click()
+    expect(lso.get_by_role("alert")).to_contain_text("2 problems on 1 line: nothing can be imported.")
+    problems = lso.locator("table#problems tbody tr")
+    expect(problems).to_have_count(2)
+    assert [cells.split("\t")[:2] for cells in problems.all_inner_texts()] == [["5", "average power"], ["5", "class"]]
+    expect(lso.get_by_role("button", name=re.compile("^Import "))).to_have_count(0)
+    _shot(lso, "import-dry-run-problems")
+    assert not Laser.objects.filter(asset_tag__istartswith="MV-").exists()
+
+    rows[3] = "mv-0002,solid state,4,active,Kestrel Building,0.12,researcher,harmonic,cw,532 nm,500 mW,3 mm,0.8 mrad"
+    fixed = tmp_path / "moving-in-fixed.csv"
+    fixed.write_text("\n".join([header, *rows]) + "\n", encoding="utf-8")
+    lso.get_by_label("Spreadsheet (.csv or .xlsx)").set_input_files(str(fixed))
+    lso.get_by_role("button", name="Upload and see the dry run").click()
+    expect(lso.locator("#dry-run-summary")).to_contain_text("2 to create, 0 to update, 0 unchanged")
+    outcomes = lso.locator("table#outcomes tbody tr")
+    assert [cells.split("\t")[:3] for cells in outcomes.all_inner_texts()] == [
+        ["MV-0001", "2", "create"], ["MV-0002", "4, 5", "create"]]
+    _shot(lso, "import-dry-run")
+    assert not Laser.objects.filter(asset_tag__istartswith="MV-").exists()
+
+    lso.get_by_role("button", name="Import moving-in-fixed.csv").click()
+    expect(lso).to_have_url(f"{campus}/lasers/")
+    expect(lso.locator(".messages")).to_contain_text("moving-in-fixed.csv imported: lasers created 2")
+    _shot(lso, "import-confirmed")
+    assert sorted(Laser.objects.filter(asset_tag__istartswith="MV-").values_list("asset_tag", "status")) == [
+        ("MV-0001", "active"), ("MV-0002", "active")]
+    assert Emission.objects.filter(laser__asset_tag="MV-0002").count() == 2
