@@ -237,3 +237,8 @@ SPECTACULAR_SETTINGS = {
         "registry.schema.add_error_responses",
     ],
 }
+
+# --- Serving (issue 13): health check -----------------------------------------------------
+# A load balancer asks app servers for /healthz over plain HTTP on the private network; the
+# redirect to HTTPS (SECURE_SSL_REDIRECT) would answer it 301 instead of the check's own status.
+SECURE_REDIRECT_EXEMPT = [r"^healthz$"]
