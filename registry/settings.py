@@ -242,3 +242,30 @@ SPECTACULAR_SETTINGS = {
 # A load balancer asks app servers for /healthz over plain HTTP on the private network; the
 # redirect to HTTPS (SECURE_SSL_REDIRECT) would answer it 301 instead of the check's own status.
 SECURE_REDIRECT_EXEMPT = [r"^healthz$"]
+
+# --- Serving (issue 13): logging ----------------------------------------------------------
+# One line per request (registry.middleware.RequestLogMiddleware, first of all middleware so it
+# sees every answer) and per service action (registry.services._logging), each with the request
+# id that also goes back in X-Request-ID. Everything goes to stderr, where gunicorn, systemd or
+# the container runtime collects it.
+MIDDLEWARE = ["registry.middleware.RequestLogMiddleware", *MIDDLEWARE]
+LOG_LEVEL = env_choice("LOG_LEVEL", "INFO", ("DEBUG", "INFO", "WARNING", "ERROR"))
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "formatters": {
+        "line": {
+            "()": "logging.Formatter",
+            "fmt": "%(asctime)s %(levelname)s %(name)s [%(request_id)s] %(message)s",
+            # Lines written before the app is ready have no request id (registry.log_context).
+            "defaults": {"request_id": "-"},
+        },
+    },
+    "handlers": {"stderr": {"class": "logging.StreamHandler", "formatter": "line"}},
+    "root": {"handlers": ["stderr"], "level": "WARNING"},
+    "loggers": {
+        "registry": {"level": LOG_LEVEL},
+        # Through the root handler only: Django's default sends it to the console with DEBUG on as well.
+        "django": {"handlers": [], "level": "INFO"},
+    },
+}

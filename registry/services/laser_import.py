@@ -49,6 +49,7 @@ from registry.models import (
     TemporalMode,
 )
 from registry.services._common import require_role
+from registry.services._logging import service_action
 from registry.services.eyewear import location_create
 from registry.services.lasers import (
     EMISSION_QUANTITIES,
@@ -714,6 +715,7 @@ def _free_location_code(building: str, room: str) -> str:
     return code
 
 
+@service_action
 def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_locations: bool = False) -> ImportReport:
     """Apply ``table`` to the register as ``by`` (an LSO), or report what it would do (``dry_run``).
 
