@@ -269,3 +269,12 @@ LOGGING = {
         "django": {"handlers": [], "level": "INFO"},
     },
 }
+
+# --- Serving (issue 13): the shared cache ---------------------------------------------------
+# Throttles (the API's sign-in limits) and the sign-in lockout count in Django's default cache.
+# Every gunicorn worker and every server must see the same counters, or guessing is multiplied
+# by their number: production uses the database cache (`manage.py createcachetable`) unless
+# CACHE_URL names a Redis server; development and tests keep one in each process's memory.
+from registry.env import env_cache  # noqa: E402 - imported here to keep this block apart for merging
+
+CACHES = {"default": env_cache("CACHE_URL", shared_by_default=PRODUCTION)}
