@@ -13,3 +13,6 @@ class RegistryConfig(AppConfig):
         # Registers the system checks; importing here, not at module level, keeps
         # settings unread until Django is set up.
         from registry import checks  # noqa: F401
+        from registry.log_context import install_record_factory
+
+        install_record_factory()

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import os
 import zoneinfo
+from typing import Any
+from urllib.parse import urlsplit
 
 from django.core.exceptions import ImproperlyConfigured
 
@@ -146,3 +148,24 @@ def refuse_unsafe_production(*, secret_key: str | None, debug: bool, allowed_hos
         raise ImproperlyConfigured("BEAMKEEPER_ENV=production needs ALLOWED_HOSTS (comma-separated host names).")
     if "*" in allowed_hosts:
         raise ImproperlyConfigured("ALLOWED_HOSTS=* is refused when BEAMKEEPER_ENV=production; name the hosts.")
+
+
+# The cache every server shares (throttles, sign-in lockout) when CACHE_URL names none.
+DATABASE_CACHE_TABLE = "beamkeeper_cache"
+
+
+def env_cache(name: str, *, shared_by_default: bool) -> dict[str, Any]:
+    """Django's default cache: Redis when ``name`` holds a redis:// or rediss:// URL, else the
+    database cache (table DATABASE_CACHE_TABLE, made by ``manage.py createcachetable``) when
+    ``shared_by_default``, else local memory, which each process keeps to itself."""
+    url = os.environ.get(name, "").strip()
+    if url:
+        parts = urlsplit(url)
+        if parts.scheme not in ("redis", "rediss") or not parts.hostname:
+            raise ImproperlyConfigured(
+                f"The environment variable {name} must be a redis:// or rediss:// URL with a host, got {url!r}.")
+        return {"BACKEND": "django.core.cache.backends.redis.RedisCache", "LOCATION": url,
+                "KEY_PREFIX": "beamkeeper"}
+    if shared_by_default:
+        return {"BACKEND": "django.core.cache.backends.db.DatabaseCache", "LOCATION": DATABASE_CACHE_TABLE}
+    return {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}

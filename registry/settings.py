@@ -273,3 +273,83 @@ SPECTACULAR_SETTINGS = {
         "registry.schema.add_error_responses",
     ],
 }
+
+# --- Serving (issue 13): health check -----------------------------------------------------
+# A load balancer asks app servers for /healthz over plain HTTP on the private network; the
+# redirect to HTTPS (SECURE_SSL_REDIRECT) would answer it 301 instead of the check's own status.
+SECURE_REDIRECT_EXEMPT = [r"^healthz$"]
+
+# --- Serving (issue 13): logging ----------------------------------------------------------
+# One line per request (registry.middleware.RequestLogMiddleware, first of all middleware so it
+# sees every answer) and per service action (registry.services._logging), each with the request
+# id that also goes back in X-Request-ID. Everything goes to stderr, where gunicorn, systemd or
+# the container runtime collects it.
+MIDDLEWARE = ["registry.middleware.RequestLogMiddleware", *MIDDLEWARE]
+LOG_LEVEL = env_choice("LOG_LEVEL", "INFO", ("DEBUG", "INFO", "WARNING", "ERROR"))
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "formatters": {
+        "line": {
+            "()": "logging.Formatter",
+            "fmt": "%(asctime)s %(levelname)s %(name)s [%(request_id)s] %(message)s",
+            # Lines written before the app is ready have no request id (registry.log_context).
+            "defaults": {"request_id": "-"},
+        },
+    },
+    "handlers": {"stderr": {"class": "logging.StreamHandler", "formatter": "line"}},
+    "root": {"handlers": ["stderr"], "level": "WARNING"},
+    "loggers": {
+        "registry": {"level": LOG_LEVEL},
+        # Through the root handler only: Django's default sends it to the console with DEBUG on as well.
+        "django": {"handlers": [], "level": "INFO"},
+    },
+}
+
+# --- Serving (issue 13): the shared cache ---------------------------------------------------
+# Throttles (the API's sign-in limits) and the sign-in lockout count in Django's default cache.
+# Every gunicorn worker and every server must see the same counters, or guessing is multiplied
+# by their number: production uses the database cache (`manage.py createcachetable`) unless
+# CACHE_URL names a Redis server; development and tests keep one in each process's memory.
+from registry.env import env_cache  # noqa: E402 - imported here to keep this block apart for merging
+
+CACHES = {"default": env_cache("CACHE_URL", shared_by_default=PRODUCTION)}
+
+# --- Serving (issue 13): static files and uploaded documents -------------------------------
+# WhiteNoise serves what `manage.py collectstatic` gathered into STATIC_ROOT (the stylesheet,
+# the admin's files, the offline API docs of drf-spectacular-sidecar) from every app server,
+# with DEBUG off, so no separate file server is needed. Production gives them content-hashed
+# names, cached for a year, and gzip and Brotli copies; development and tests keep the plain
+# names and need no collectstatic.
+MIDDLEWARE.insert(MIDDLEWARE.index("django.middleware.security.SecurityMiddleware") + 1,
+                  "whitenoise.middleware.WhiteNoiseMiddleware")
+# Uploaded SOP documents: files under MEDIA_ROOT by default; MEDIA_STORAGE=s3 keeps them in an
+# S3-compatible bucket through django-storages (installed separately; see the README).
+MEDIA_STORAGE = env_choice("MEDIA_STORAGE", "files", ("files", "s3"))
+STORAGES = {
+    "default": (
+        {"BACKEND": "django.core.files.storage.FileSystemStorage"} if MEDIA_STORAGE == "files" else {
+            "BACKEND": "storages.backends.s3.S3Storage",
+            "OPTIONS": {
+                "bucket_name": env_str("MEDIA_S3_BUCKET"),
+                "endpoint_url": env_str("MEDIA_S3_ENDPOINT_URL", "") or None,
+                "region_name": env_str("MEDIA_S3_REGION", "") or None,
+                # Private objects, reached through links signed for an hour.
+                "default_acl": "private",
+                "querystring_auth": True,
+                "querystring_expire": 3600,
+                "file_overwrite": False,
+            },
+        }
+    ),
+    "staticfiles": {"BACKEND": "whitenoise.storage.CompressedManifestStaticFilesStorage" if PRODUCTION
+                    else "django.contrib.staticfiles.storage.StaticFilesStorage"},
+}
+# collectstatic compresses every file it keeps: only the hashed names are kept, and the API docs'
+# source maps (megabytes, fetched only by a browser's developer tools) are not compressed.
+WHITENOISE_KEEP_ONLY_HASHED_FILES = PRODUCTION
+# Development and tests have no collected files: WhiteNoise looks for them per request instead of
+# listing STATIC_ROOT once at start-up (and warning that it is missing).
+WHITENOISE_AUTOREFRESH = not PRODUCTION
+WHITENOISE_SKIP_COMPRESS_EXTENSIONS = ["map", "jpg", "jpeg", "png", "gif", "webp", "zip", "gz", "tgz", "bz2", "tbz",
+                                       "xz", "br", "woff", "woff2"]

@@ -1,4 +1,5 @@
-"""Top-level URLs: the register's pages, sign-in, the admin (the LSO's back office) and the API.
+"""Top-level URLs: the register's pages, sign-in, the admin (the LSO's back office), the API and
+the health check.
 
 The page URLs are a contract (issue 10): tools link to them.
 """
@@ -8,7 +9,7 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from registry.views import home, imports, incidents, lasers, people, places, review
+from registry.views import health, home, imports, incidents, lasers, people, places, review
 
 urlpatterns = [
     path("", home.home, name="home"),
@@ -35,6 +36,7 @@ urlpatterns = [
     path("people/<int:pk>/authorizations/", people.person_request_authorization, name="person-authorization"),
     path("authorizations/<int:pk>/decision/", people.authorization_decide, name="authorization-decide"),
     path("incidents/new/", incidents.incident_new, name="incident-new"),
+    path("healthz", health.healthz, name="healthz"),
     path("admin/", admin.site.urls),
     path("api/v1/", include("registry.api.urls", namespace="api")),
 ]

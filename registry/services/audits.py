@@ -31,6 +31,7 @@ from registry.services._common import (
     save_changes,
     validated_save,
 )
+from registry.services._logging import service_action
 from registry.services.checklist import checklist_for
 from registry.services.errors import StateError
 
@@ -55,6 +56,7 @@ AUDIT_EDITABLE_FIELDS = frozenset({"scope", "location", "lasers", "site", "plann
 FINDING_EDITABLE_FIELDS = frozenset({"corrective_action", "owner", "due_on"})
 
 
+@service_action
 @transaction.atomic
 def audit_plan(
     *,
@@ -84,6 +86,7 @@ def audit_plan(
     return audit
 
 
+@service_action
 @transaction.atomic
 def audit_start(*, audit: Audit, by: Person, conducted_on: datetime.date | None = None) -> Audit:
     """Start the audit and add to its checklist the control measures each laser in scope calls for
@@ -118,6 +121,7 @@ class FailureFinding(TypedDict):
     due_on: datetime.date
 
 
+@service_action
 @transaction.atomic
 def audit_answer(*, item: AuditChecklistItem, answer: str, by: Person, comment: str = "",
                  finding: FailureFinding | None = None) -> AuditChecklistItem:
@@ -156,6 +160,7 @@ def _raise_failure_finding(item: AuditChecklistItem, finding: FailureFinding | N
         corrective_action=finding["corrective_action"], owner=finding["owner"], due_on=finding["due_on"]), by=by)
 
 
+@service_action
 @transaction.atomic
 def finding_raise(
     *,
@@ -175,6 +180,7 @@ def finding_raise(
     return validated_save(finding, by=by)
 
 
+@service_action
 @transaction.atomic
 def finding_close(*, finding: Finding, by: Person, evidence: str, closed_on: datetime.date | None = None) -> Finding:
     """Close a finding; the evidence (what was done, where it can be checked) is required."""
@@ -187,6 +193,7 @@ def finding_close(*, finding: Finding, by: Person, evidence: str, closed_on: dat
     return validated_save(finding, by=by)
 
 
+@service_action
 @transaction.atomic
 def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
                    at: datetime.datetime | None = None) -> Audit:
@@ -207,6 +214,7 @@ def audit_sign_off(*, audit: Audit, by: Person, summary: str | None = None,
     return validated_save(audit, by=by)
 
 
+@service_action
 @transaction.atomic
 def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
     """Change an audit's plan (AUDIT_EDITABLE_FIELDS) while it is planned or in progress."""
@@ -217,6 +225,7 @@ def audit_update(*, audit: Audit, by: Person, **changes: Any) -> Audit:
     return save_changes(audit, changes, editable=AUDIT_EDITABLE_FIELDS, what="an audit", by=by)
 
 
+@service_action
 @transaction.atomic
 def finding_update(*, finding: Finding, by: Person, **changes: Any) -> Finding:
     """Change a finding's follow-up (FINDING_EDITABLE_FIELDS) while it is open."""

@@ -17,6 +17,7 @@ from registry.services._common import (
     require_transition,
     validated_save,
 )
+from registry.services._logging import service_action
 from registry.services.errors import PrerequisiteError
 
 A = AuthorizationStatus
@@ -30,6 +31,7 @@ AUTHORIZATION_TRANSITIONS: dict[str, frozenset[str]] = {
 }
 
 
+@service_action
 @transaction.atomic
 def authorization_request(*, person: Person, laser: Laser, by: Person, conditions: str = "") -> Authorization:
     """Ask for ``person`` to be authorized on ``laser`` (an active laser)."""
@@ -52,6 +54,7 @@ def _decide(authorization: Authorization, target: str, *, by: Person, reason: st
     return validated_save(authorization, by=by)
 
 
+@service_action
 @transaction.atomic
 def authorization_approve(*, authorization: Authorization, by: Person, valid_until: datetime.date | None = None,
                           conditions: str | None = None, reason: str = "") -> Authorization:
@@ -69,6 +72,7 @@ def authorization_approve(*, authorization: Authorization, by: Person, valid_unt
     return _decide(authorization, A.APPROVED, by=by, reason=reason)
 
 
+@service_action
 @transaction.atomic
 def authorization_refuse(*, authorization: Authorization, by: Person, reason: str) -> Authorization:
     require_role(by, Role.LSO, action="refuse an authorization")
@@ -77,6 +81,7 @@ def authorization_refuse(*, authorization: Authorization, by: Person, reason: st
     return _decide(authorization, A.REFUSED, by=by, reason=text)
 
 
+@service_action
 @transaction.atomic
 def authorization_withdraw(*, authorization: Authorization, by: Person) -> Authorization:
     lock_for_change(authorization)
@@ -86,6 +91,7 @@ def authorization_withdraw(*, authorization: Authorization, by: Person) -> Autho
     return validated_save(authorization, by=by)
 
 
+@service_action
 @transaction.atomic
 def authorization_revoke(*, authorization: Authorization, by: Person, reason: str) -> Authorization:
     require_role(by, Role.LSO, action="revoke an authorization")

@@ -39,6 +39,8 @@ from django.db.migrations.executor import MigrationExecutor
 from django.db.migrations.recorder import MigrationRecorder
 from django.utils import timezone
 
+from registry.services._logging import service_action
+
 FORMAT = "beamkeeper-register-backup"
 VERSION = 1
 MANIFEST = "manifest.json"
@@ -124,6 +126,7 @@ def _rows(chosen: list[type[models.Model]]) -> Iterator[models.Model]:
         yield from model._base_manager.order_by("pk").iterator(chunk_size=2000)
 
 
+@service_action
 def register_backup(*, out: Path) -> BackupSummary:
     """Write every record (with its history) and every file under MEDIA_ROOT to the archive ``out``.
 
@@ -175,6 +178,7 @@ def _add_bytes(tar: tarfile.TarFile, name: str, data: bytes) -> None:
     tar.addfile(info, io.BytesIO(data))
 
 
+@service_action
 def register_restore(*, archive: Path) -> RestoreSummary:
     """Load ``archive`` into this database, which must be migrated to the same migrations and empty.
 

@@ -41,6 +41,7 @@ from registry.models import (
     TrainingRecord,
 )
 from registry.services._common import quantity
+from registry.services._logging import service_action
 from registry.services.hazards import hazard_results_refresh
 from registry.services.lasers import emission_values
 from registry.services.people import person_sync_account
@@ -311,6 +312,7 @@ class _Loader:
         raise ValidationError("campus file: at least one person must have the role 'lso'.")
 
 
+@service_action
 @transaction.atomic
 def campus_load(*, data: Mapping[str, Any], today: datetime.date | None = None,
                 set_demo_passwords: bool = False) -> CampusSummary:

@@ -17,6 +17,7 @@ from registry.services._common import (
     save_changes,
     validated_save,
 )
+from registry.services._logging import service_action
 
 
 class MarkingInput(TypedDict, total=False):
@@ -49,6 +50,7 @@ LOCATION_EDITABLE_FIELDS = frozenset({"site", "building", "room", "name", "is_co
                                       "has_warning_light", "sign_posted_on", "longest_dimension_m"})
 
 
+@service_action
 @transaction.atomic
 def eyewear_create(*, inventory_tag: str, location: Location, markings: Iterable[MarkingInput], by: Person | None,
                    **fields: Any) -> Eyewear:
@@ -60,6 +62,7 @@ def eyewear_create(*, inventory_tag: str, location: Location, markings: Iterable
     return eyewear
 
 
+@service_action
 @transaction.atomic
 def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], by: Person | None) -> Eyewear:
     """Replace the item's markings (e.g. after a filter was swapped); history keeps the old ones."""
@@ -70,6 +73,7 @@ def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], 
     return eyewear
 
 
+@service_action
 @transaction.atomic
 def eyewear_inspect(*, eyewear: Eyewear, by: Person, condition: str,
                     inspected_on: datetime.date | None = None) -> Eyewear:
@@ -79,6 +83,7 @@ def eyewear_inspect(*, eyewear: Eyewear, by: Person, condition: str,
     return validated_save(eyewear, by=by)
 
 
+@service_action
 @transaction.atomic
 def location_create(*, code: str, site: str, building: str, room: str, by: Person | None, **fields: Any) -> Location:
     """A room. ``fields``: name, is_controlled_area, interlock, has_warning_light,
@@ -89,6 +94,7 @@ def location_create(*, code: str, site: str, building: str, room: str, by: Perso
     return validated_save(Location(code=code, site=site, building=building, room=room, **fields), by=by)
 
 
+@service_action
 @transaction.atomic
 def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
     """Correct an item's description or where it is kept (EYEWEAR_EDITABLE_FIELDS)."""
@@ -97,6 +103,7 @@ def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
     return save_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item", by=by)
 
 
+@service_action
 @transaction.atomic
 def location_update(*, location: Location, by: Person, **changes: Any) -> Location:
     """Correct a room's details (LOCATION_EDITABLE_FIELDS); longest_dimension_m takes units."""

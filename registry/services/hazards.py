@@ -25,6 +25,7 @@ from hazards.limits.limit_set import load_limit_set
 from hazards.units import format_wavelength
 from registry.models import EMISSION_BEAM_FIELDS, Emission, HazardResult, Person
 from registry.services._common import validated_save
+from registry.services._logging import service_action
 
 logger = logging.getLogger(__name__)
 
@@ -280,6 +281,7 @@ def _is_current(emission: Emission, results: dict[str, HazardResult]) -> bool:
     )
 
 
+@service_action
 @transaction.atomic
 def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None = None, only_stale: bool = False,
                            limit_sets: Sequence[str] = LIMIT_SETS,

@@ -17,6 +17,7 @@ from registry.services._common import (
     save_changes,
     validated_save,
 )
+from registry.services._logging import service_action
 from registry.services.errors import StateError
 
 INCIDENT_TRANSITIONS: dict[str, frozenset[str]] = {
@@ -30,6 +31,7 @@ INCIDENT_TRANSITIONS: dict[str, frozenset[str]] = {
 INCIDENT_EDITABLE_FIELDS = frozenset({"kind", "occurred_at", "laser", "location", "people_involved", "description"})
 
 
+@service_action
 @transaction.atomic
 def incident_report(
     *,
@@ -51,6 +53,7 @@ def incident_report(
     return incident
 
 
+@service_action
 @transaction.atomic
 def incident_investigate(*, incident: Incident, by: Person) -> Incident:
     require_role(by, Role.LSO, action="open an incident investigation")
@@ -61,6 +64,7 @@ def incident_investigate(*, incident: Incident, by: Person) -> Incident:
     return validated_save(incident, by=by)
 
 
+@service_action
 @transaction.atomic
 def incident_close(*, incident: Incident, by: Person, follow_up: str,
                    at: datetime.datetime | None = None) -> Incident:
@@ -73,6 +77,7 @@ def incident_close(*, incident: Incident, by: Person, follow_up: str,
     return validated_save(incident, by=by)
 
 
+@service_action
 @transaction.atomic
 def incident_update(*, incident: Incident, by: Person, **changes: Any) -> Incident:
     """Correct the account of an incident (INCIDENT_EDITABLE_FIELDS) while it is open.

@@ -51,6 +51,7 @@ from registry.models import (
     TemporalMode,
 )
 from registry.services._common import require_role
+from registry.services._logging import service_action
 from registry.services.eyewear import location_create
 from registry.services.lasers import (
     EMISSION_QUANTITIES,
@@ -739,6 +740,7 @@ def _free_location_code(building: str, room: str) -> str:
     return code
 
 
+@service_action
 def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_locations: bool = False,
                  expected: str | None = None) -> ImportReport:
     """Apply ``table`` to the register as ``by`` (an LSO), or report what it would do (``dry_run``).

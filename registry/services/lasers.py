@@ -22,6 +22,7 @@ from registry.models import (
     class_rank,
 )
 from registry.selectors import emissions_not_assessed
+from registry.services._logging import service_action
 from registry.services.authorizations import authorization_refuse, authorization_revoke
 from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
@@ -74,6 +75,7 @@ def _check_fields(given: dict[str, Any], allowed: frozenset[str], *, what: str) 
         raise ValidationError({name: f"{name} is not a field of {what} that can be set here." for name in unknown})
 
 
+@service_action
 @transaction.atomic
 def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[str, Any]] = (),
                    **fields: Any) -> Laser:
@@ -91,6 +93,7 @@ def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[st
     return laser
 
 
+@service_action
 @transaction.atomic
 def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     """Change LASER_EDITABLE_FIELDS. An approved laser whose class anyone but the LSO lowers
@@ -130,6 +133,7 @@ def _move(laser: Laser, target: str, *, by: Person, note: str = "") -> Laser:
     return validated_save(laser, by=by)
 
 
+@service_action
 @transaction.atomic
 def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Resubmit a returned registration for review."""
@@ -137,6 +141,7 @@ def laser_submit(*, laser: Laser, by: Person, note: str = "") -> Laser:
     return _move(laser, LaserStatus.PENDING_REVIEW, by=by, note=note)
 
 
+@service_action
 @transaction.atomic
 def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
     """Accept a registration after review. The laser must describe at least one emission, and
@@ -157,6 +162,7 @@ def laser_approve(*, laser: Laser, by: Person, note: str = "") -> Laser:
     return _move(laser, LaserStatus.ACTIVE, by=by, note=note)
 
 
+@service_action
 @transaction.atomic
 def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
     """Send a registration back to its owner with what must change."""
@@ -168,6 +174,7 @@ def laser_return(*, laser: Laser, by: Person, comments: str) -> Laser:
     return _move(laser, LaserStatus.RETURNED, by=by)
 
 
+@service_action
 @transaction.atomic
 def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -> Laser:
     """Move a laser in service between active, in storage and out of service."""
@@ -179,6 +186,7 @@ def laser_set_status(*, laser: Laser, by: Person, status: str, note: str = "") -
     return _move(laser, status, by=by, note=note)
 
 
+@service_action
 @transaction.atomic
 def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
                  retired_on: datetime.date | None = None) -> Laser:
@@ -228,6 +236,7 @@ def _apply_emission_fields(emission: Emission, fields: dict[str, Any]) -> None:
         setattr(emission, name, value)
 
 
+@service_action
 @transaction.atomic
 def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emission:
     """Add an emission and assess it. Quantities are SI numbers or strings with units
@@ -240,6 +249,7 @@ def emission_create(*, laser: Laser, by: Person | None, **fields: Any) -> Emissi
     return emission
 
 
+@service_action
 @transaction.atomic
 def emission_update(*, emission: Emission, by: Person | None, **fields: Any) -> Emission:
     """Change an emission; its hazard results are recomputed (or dropped if it cannot be assessed)."""

@@ -15,6 +15,7 @@ from django.db import transaction
 
 from registry.models import Person, ResearchGroup, Role
 from registry.services._common import apply_changes, lock_for_change, require_role, validated_save
+from registry.services._logging import service_action
 
 ROLE_GROUP_NAMES: dict[str, str] = {
     Role.LSO: "Laser safety officers",
@@ -66,6 +67,7 @@ def person_sync_account(*, person: Person) -> None:
         user.save(update_fields=["is_staff"])
 
 
+@service_action
 @transaction.atomic
 def person_create(
     *,
@@ -102,6 +104,7 @@ def person_create(
     return person
 
 
+@service_action
 @transaction.atomic
 def person_set_role(*, person: Person, role: str, by: Person) -> Person:
     require_role(by, Role.LSO, action="change a person's role")
@@ -116,6 +119,7 @@ def _set_role(person: Person, role: str, *, by: Person) -> Person:
     return person
 
 
+@service_action
 @transaction.atomic
 def person_update(*, person: Person, by: Person | None, **changes: Any) -> Person:
     """Change the given PERSON_EDITABLE_FIELDS only; a new role goes through person_set_role
@@ -132,6 +136,7 @@ def person_update(*, person: Person, by: Person | None, **changes: Any) -> Perso
     return _set_role(person, role, by=by)
 
 
+@service_action
 @transaction.atomic
 def research_group_create(*, slug: str, name: str, department: str = "", by: Person | None = None) -> ResearchGroup:
     return validated_save(ResearchGroup(slug=slug, name=name, department=department), by=by)

@@ -33,6 +33,7 @@ from registry.selectors import (
     training_expiring,
 )
 from registry.services._common import validated_save
+from registry.services._logging import service_action
 
 # Training is reminded this many days before it expires (and every day after, until renewed);
 # the digest looks as far ahead for every other date.
@@ -119,6 +120,7 @@ def reminders_due(*, today: datetime.date) -> tuple[list[Reminder], list[Person]
     return reminders, unreachable
 
 
+@service_action
 def reminders_send(*, today: datetime.date | None = None) -> ReminderRun:
     """Send the reminders for ``today`` (the local date by default) that have not been sent yet."""
     day = today or timezone.localdate()

@@ -7,8 +7,10 @@ from django.utils import timezone
 from registry.models import Person, Role
 from registry.models.base import ComplianceRecord
 from registry.services._common import lock_for_change, require_role, require_text, validated_save
+from registry.services._logging import service_action
 
 
+@service_action
 @transaction.atomic
 def record_retire(*, record: ComplianceRecord, by: Person, reason: str) -> ComplianceRecord:
     """Retire a training record, SOP, authorization, eyewear item, audit, finding or incident."""

@@ -19,6 +19,7 @@ from registry.services._common import (
     save_changes,
     validated_save,
 )
+from registry.services._logging import service_action
 from registry.services.errors import StateError
 
 SOP_TRANSITIONS: dict[str, frozenset[str]] = {
@@ -31,6 +32,7 @@ SOP_TRANSITIONS: dict[str, frozenset[str]] = {
 SOP_EDITABLE_FIELDS = frozenset({"title", "version", "review_due", "document"})
 
 
+@service_action
 @transaction.atomic
 def sop_create(*, laser: Laser, title: str, by: Person, summary: str = "", document: File | None = None) -> SOP:
     """A draft of the next version of ``laser``'s SOP."""
@@ -43,6 +45,7 @@ def sop_create(*, laser: Laser, title: str, by: Person, summary: str = "", docum
     return validated_save(sop, by=by)
 
 
+@service_action
 @transaction.atomic
 def sop_approve(*, sop: SOP, by: Person, review_due: datetime.date | None = None,
                 approved_on: datetime.date | None = None) -> SOP:
@@ -62,6 +65,7 @@ def sop_approve(*, sop: SOP, by: Person, review_due: datetime.date | None = None
     return validated_save(sop, by=by)
 
 
+@service_action
 @transaction.atomic
 def sop_acknowledge(*, sop: SOP, person: Person, at: datetime.datetime | None = None) -> SOPAcknowledgement:
     """``person`` states they have read ``sop``; acknowledging twice keeps the first."""
@@ -76,6 +80,7 @@ def sop_acknowledge(*, sop: SOP, person: Person, at: datetime.datetime | None = 
     return validated_save(acknowledgement, by=person)
 
 
+@service_action
 @transaction.atomic
 def sop_update(*, sop: SOP, by: Person, **changes: Any) -> SOP:
     """Correct a draft's metadata (SOP_EDITABLE_FIELDS).

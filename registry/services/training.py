@@ -8,12 +8,14 @@ from django.db import transaction
 
 from registry.models import Laser, Person, Role, TrainingRecord
 from registry.services._common import lock_for_change, require_role, save_changes, validated_save
+from registry.services._logging import service_action
 
 # What a training portal corrects; whose training it is and which laser it covers stay
 # as recorded (a different person's training is a new record).
 TRAINING_EDITABLE_FIELDS = frozenset({"course", "completed_on", "valid_until", "evidence"})
 
 
+@service_action
 @transaction.atomic
 def training_record(
     *,
@@ -35,6 +37,7 @@ def training_record(
     return validated_save(record, by=by)
 
 
+@service_action
 @transaction.atomic
 def training_record_update(*, training_record: TrainingRecord, by: Person, **changes: Any) -> TrainingRecord:
     """Correct a training record (TRAINING_EDITABLE_FIELDS); the dates are checked together."""
