@@ -193,6 +193,10 @@ STATIC_URL = "static/"
 STATIC_ROOT = Path(env_str("STATIC_ROOT", str(BASE_DIR / "staticfiles")))
 MEDIA_URL = "media/"
 MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
+# Uploaded SOP documents: at most this size (registry.models.sop.validate_sop_document). They
+# are served only through /api/v1/sops/{id}/document/, under the SOP's permissions; a web
+# server must not serve MEDIA_ROOT itself.
+SOP_DOCUMENT_MAX_BYTES = env_int("BEAMKEEPER_SOP_MAX_MB", 20, minimum=1) * 2**20
 
 # The register's own sign-in page, for every role (the admin keeps refusing researchers and users).
 LOGIN_URL = "login"
