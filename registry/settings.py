@@ -5,8 +5,8 @@ Two modes, chosen by BEAMKEEPER_ENV:
 - ``development`` (the default): DEBUG on, SQLite beside the code, mail printed to the
   console, a fixed insecure SECRET_KEY that is only ever accepted in this mode.
 - ``production``: refuses to start without a strong SECRET_KEY (or SECRET_KEY_FILE) of its
-  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and turns on the HTTPS protections that
-  ``manage.py check --deploy`` looks for.
+  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and
+  turns on the HTTPS protections that ``manage.py check --deploy`` looks for.
 
 See DEVELOPERS.md for the full list of variables.
 """
@@ -43,7 +43,7 @@ _secret_key = env_secret("SECRET_KEY")
 DEBUG = env_bool("DEBUG", default=not PRODUCTION)
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [] if PRODUCTION else ["127.0.0.1", "localhost", "[::1]"])
 if PRODUCTION:
-    # Every setting production refuses is refused there, and only there.
+    # What production refuses is decided in that one function.
     refuse_unsafe_production(secret_key=_secret_key, debug=DEBUG, allowed_hosts=ALLOWED_HOSTS)
 # Development only: a key everyone knows, so sessions survive restarts of runserver.
 SECRET_KEY = _secret_key or DEVELOPMENT_SECRET_KEY
@@ -88,7 +88,7 @@ MIDDLEWARE = [
 # Content-Security-Policy: everything from this site, no inline script or style, no plug-ins,
 # no framing, forms sent only here. The register's pages and the admin need nothing more;
 # the few views that do widen it for themselves with django-csp's decorators (the API's docs
-# and browsable pages, registry.api.docs.DOCS_CSP).
+# and browsable pages: registry.api.docs).
 CONTENT_SECURITY_POLICY = {
     "DIRECTIVES": {
         "default-src": [SELF],
