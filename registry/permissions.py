@@ -295,6 +295,8 @@ AUTHORIZATIONS = Policy(
 SOPS = Policy(
     {
         **_read(*_EVERYONE),
+        # Whoever may read the SOP may read its document.
+        "document": allow(*_EVERYONE),
         "create": allow(LSO, RESEARCHER),
         # The researcher who owns the laser corrects their drafts; sop_update refuses approved versions.
         **_edit(LSO, RESEARCHER, on_object=owns_parent_laser),

@@ -5,8 +5,8 @@ Two modes, chosen by BEAMKEEPER_ENV:
 - ``development`` (the default): DEBUG on, SQLite beside the code, mail printed to the
   console, a fixed insecure SECRET_KEY that is only ever accepted in this mode.
 - ``production``: refuses to start without a strong SECRET_KEY (or SECRET_KEY_FILE) of its
-  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and turns on the HTTPS protections that
-  ``manage.py check --deploy`` looks for.
+  own and named ALLOWED_HOSTS, refuses DEBUG (registry.env.refuse_unsafe_production), and
+  turns on the HTTPS protections that ``manage.py check --deploy`` looks for.
 
 See DEVELOPERS.md for the full list of variables.
 """
@@ -17,6 +17,7 @@ from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
+from csp.constants import NONE, SELF
 
 from hazards.caution import CAUTION
 from hazards.classes import LASER_CLASSES
@@ -43,7 +44,7 @@ _secret_key = env_secret("SECRET_KEY")
 DEBUG = env_bool("DEBUG", default=not PRODUCTION)
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [] if PRODUCTION else ["127.0.0.1", "localhost", "[::1]"])
 if PRODUCTION:
-    # Every setting production refuses is refused there, and only there.
+    # What production refuses is decided in that one function.
     refuse_unsafe_production(secret_key=_secret_key, debug=DEBUG, allowed_hosts=ALLOWED_HOSTS)
 # Development only: a key everyone knows, so sessions survive restarts of runserver.
 SECRET_KEY = _secret_key or DEVELOPMENT_SECRET_KEY
@@ -63,11 +64,14 @@ INSTALLED_APPS = [
     "drf_spectacular_sidecar",
     "simple_history",
     "axes",
+    "csp",
     "registry",
 ]
 
 MIDDLEWARE = [
     "django.middleware.security.SecurityMiddleware",
+    # Content-Security-Policy on every response (CONTENT_SECURITY_POLICY below).
+    "csp.middleware.CSPMiddleware",
     # Before anything reads the query string: too many parameters is a 400 on every URL.
     "registry.middleware.QueryFieldLimitMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
@@ -81,6 +85,25 @@ MIDDLEWARE = [
     # Last: answers a sign-in refused by the lockout (AXES_* below).
     "axes.middleware.AxesMiddleware",
 ]
+
+# Content-Security-Policy: everything from this site, no inline script or style, no plug-ins,
+# no framing, forms sent only here. The register's pages and the admin need nothing more;
+# the few views that do widen it for themselves with django-csp's decorators (the API's docs
+# and browsable pages: registry.api.docs).
+CONTENT_SECURITY_POLICY = {
+    "DIRECTIVES": {
+        "default-src": [SELF],
+        "script-src": [SELF],
+        "style-src": [SELF],
+        "img-src": [SELF],
+        "font-src": [SELF],
+        "connect-src": [SELF],
+        "object-src": [NONE],
+        "base-uri": [NONE],
+        "frame-ancestors": [NONE],
+        "form-action": [SELF],
+    },
+}
 
 ROOT_URLCONF = "registry.urls"
 WSGI_APPLICATION = "registry.wsgi.application"
@@ -174,6 +197,10 @@ MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
 # Sheets uploaded to the import page, kept between their dry run and its confirmation
 # (registry.services.import_uploads); every process serving the pages must see the same folder.
 IMPORT_UPLOAD_DIR = Path(env_str("IMPORT_UPLOAD_DIR", str(Path(tempfile.gettempdir()) / "beamkeeper-imports")))
+# Uploaded SOP documents: at most this size (registry.models.sop.validate_sop_document). They
+# are served only through /api/v1/sops/{id}/document/, under the SOP's permissions; a web
+# server must not serve MEDIA_ROOT itself.
+SOP_DOCUMENT_MAX_BYTES = env_int("BEAMKEEPER_SOP_MAX_MB", 20, minimum=1) * 2**20
 
 # The register's own sign-in page, for every role (the admin keeps refusing researchers and users).
 LOGIN_URL = "login"

@@ -12,6 +12,7 @@ from rest_framework.request import Request
 from rest_framework.throttling import ScopedRateThrottle, SimpleRateThrottle
 from rest_framework.views import APIView
 
+from registry.api.docs import browsable_api_csp
 from registry.api.parsers import API_PARSERS
 from registry.schema import error_response
 from registry.signin import attempt_name
@@ -52,6 +53,7 @@ class TokenAnswerSerializer(serializers.Serializer):  # type: ignore[type-arg]
     token = serializers.CharField(read_only=True, help_text="Send as 'Authorization: Token <token>'.")
 
 
+@browsable_api_csp
 class TokenSignInView(ObtainAuthToken):
     """Exchange a username and password for the account's API token."""
 

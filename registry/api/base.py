@@ -23,6 +23,7 @@ from rest_framework.serializers import BaseSerializer
 from rest_framework.viewsets import GenericViewSet
 
 from registry import services
+from registry.api.docs import browsable_api_csp
 from registry.api.errors import service_errors
 from registry.api.etags import ETagMixin, etag_for
 from registry.models import Person
@@ -31,6 +32,7 @@ from registry.serializers.base import HistoryEntrySerializer
 from registry.serializers.fields import FreeTextField
 
 
+@browsable_api_csp
 class RegisterViewSet(ETagMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin, GenericViewSet):  # type: ignore[type-arg]
     policy: ClassVar[Policy]
     permission_classes = [RolePolicy]

@@ -1,8 +1,8 @@
 """What the document routes share: their query parameters, the PDF answer and its schema.
 
 The routes themselves are viewset methods (``LocationViewSet.sign``, ``LaserViewSet.label``,
-``AuditViewSet.report_pdf`` / ``report_json``), so each document is served under the
-policy of the record it shows; registry/api/urls.py maps them to the paths of issue 11
+``AuditViewSet.report_pdf`` / ``report_json``, ``SOPViewSet.document``), so each document is
+served under the policy of the record it shows; registry/api/urls.py maps them to the paths of issue 11
 (``sign.pdf``, ``label.pdf``, ``report.pdf``, ``report.json``, without a trailing slash).
 """
 from __future__ import annotations
@@ -11,15 +11,18 @@ import datetime
 import json
 from typing import Any
 
-from django.http import HttpResponse
+from django.http import FileResponse, HttpResponse
 from django.utils import timezone
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, OpenApiResponse
 from rest_framework import serializers
+from rest_framework.exceptions import NotFound
 from rest_framework.renderers import BaseRenderer, JSONRenderer
 from rest_framework.request import Request
 
 from registry.documents import Document, Paper
+from registry.models import SOP
+from registry.models.sop import DOCX, ODT, PDF, document_kind
 
 
 class PdfRenderer(BaseRenderer):
@@ -73,3 +76,28 @@ def pdf_response(document: Document) -> HttpResponse:
     response = HttpResponse(document.to_pdf().data, content_type="application/pdf")
     response["Content-Disposition"] = f'inline; filename="{document.filename}"'
     return response
+
+
+SOP_DOCUMENT_RESPONSE = {
+    **{(200, kind.content_type): OpenApiResponse(OpenApiTypes.BINARY, description="The document, as uploaded.")
+       for kind in (PDF, DOCX, ODT)},
+    404: OpenApiResponse(description="No such SOP for you, or it has no document."),
+}
+
+
+def sop_document_response(sop: SOP) -> FileResponse:
+    """The SOP's document as an attachment, typed by its content (as checked on upload) and
+    named by the register, so that nothing a client sent decides how a browser treats it."""
+    if not sop.document:
+        raise NotFound("This SOP has no document.")
+    try:
+        handle = sop.document.open("rb")
+    except FileNotFoundError:
+        raise NotFound("This SOP's document is missing from the file store.") from None
+    kind = document_kind(handle)
+    if kind is None:
+        handle.close()
+        # Stored before uploads were checked, or changed on disk since: not served as anything.
+        raise NotFound("This SOP's document is not a PDF or office text, so it is not served.")
+    return FileResponse(handle, as_attachment=True, content_type=kind.content_type,
+                        filename=f"sop-{sop.laser.asset_tag}-v{sop.version}{kind.extension}")

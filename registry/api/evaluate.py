@@ -12,11 +12,13 @@ from rest_framework.views import APIView
 
 from hazards.assessment import assess, parse_assessment_request
 from hazards.errors import InputError
+from registry.api.docs import browsable_api_csp
 from registry.api.parsers import BoundedJSONParser
 from registry.permissions import HasRole
 from registry.serializers.evaluate import EvaluationRequestSerializer
 
 
+@browsable_api_csp
 class EvaluateView(APIView):
     """Evaluate beam parameters as `python -m hazards assess --json` does, without saving.
 

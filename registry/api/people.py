@@ -3,6 +3,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.http import FileResponse
+
 from drf_spectacular.utils import OpenApiResponse, extend_schema
 from rest_framework import serializers, status
 from rest_framework.decorators import action
@@ -11,6 +13,7 @@ from rest_framework.response import Response
 
 from registry import permissions, selectors
 from registry.api.base import CreateRecordMixin, RegisterViewSet, RetireRecordMixin, retirable
+from registry.api.documents import PDF_RENDERERS, SOP_DOCUMENT_RESPONSE, sop_document_response
 from registry.api.errors import service_errors
 from registry.api.etags import UpdateWithETagMixin
 from registry.filters import AuthorizationFilter, PersonFilter, TrainingRecordFilter
@@ -196,6 +199,12 @@ class SOPViewSet(CreateRecordMixin, UpdateWithETagMixin, RetireRecordMixin, Regi
         with self.workflow_step() as (sop, values):
             sop = sop_services.sop_approve(sop=sop, by=self.person, **values)
         return self.respond_with(sop)
+
+    @extend_schema(operation_id="sops_document", responses=SOP_DOCUMENT_RESPONSE,
+                   summary="The SOP's document (as an attachment), to whoever may read the SOP")
+    @action(detail=True, methods=["get"], renderer_classes=PDF_RENDERERS)
+    def document(self, request: Request, pk: str | None = None) -> FileResponse:
+        return sop_document_response(self.get_object())
 
     @extend_schema(request=None, responses={201: SOPAcknowledgementSerializer, 409: _CONFLICT},
                    summary="State that you have read and will follow this SOP version")

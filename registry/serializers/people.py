@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.urls import reverse
 from rest_framework import serializers
 
 from registry.models import SOP, Authorization, CourseKind, Laser, Person, ResearchGroup, Role, TrainingRecord
@@ -134,11 +135,27 @@ class PrerequisitesSerializer(serializers.Serializer):  # type: ignore[type-arg]
                                     help_text="What still stands between the person and approval; empty when ready.")
 
 
+class SOPDocumentField(serializers.FileField):
+    """Takes an upload; answers with the SOP's document route, which serves the file under the
+    SOP's own permissions (never a MEDIA_URL address, which nothing serves)."""
+
+    def to_representation(self, value: Any) -> str | None:
+        if not value:
+            return None
+        path = reverse("api:sop-document", args=[value.instance.pk])
+        request = self.context.get("request")
+        return request.build_absolute_uri(path) if request is not None else path
+
+
+_DOCUMENT_HELP = ("A PDF, Word (.docx) or OpenDocument (.odt) text, judged by its content, at most "
+                  "BEAMKEEPER_SOP_MAX_MB (20 MB unless set); upload as multipart/form-data. Answered as the "
+                  "URL that serves it, /api/v1/sops/{id}/document/.")
+
+
 class SOPSerializer(serializers.ModelSerializer):  # type: ignore[type-arg]
     laser = ScopedRelatedField(queryset=Laser.objects.all(), narrow=editable_lasers,
                                help_text="The laser the SOP is for (one you may edit).")
-    document = serializers.FileField(required=False, allow_null=True,
-                                     help_text="The procedure document; upload as multipart/form-data.")
+    document = SOPDocumentField(required=False, allow_null=True, help_text="The procedure document. " + _DOCUMENT_HELP)
 
     class Meta:
         model = SOP
@@ -153,7 +170,7 @@ class SOPUpdateSerializer(SOPSerializer):
 
     laser = serializers.PrimaryKeyRelatedField(read_only=True)
     # A replacement document, not none: the draft's record of its text is kept.
-    document = serializers.FileField(required=False, help_text="A replacement document (multipart/form-data).")
+    document = SOPDocumentField(required=False, help_text="A replacement document. " + _DOCUMENT_HELP)
     version = serializers.IntegerField(min_value=1, required=False,
                                        help_text="The draft's version number (unique per laser).")
 

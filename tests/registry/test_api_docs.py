@@ -17,6 +17,8 @@ from urllib.parse import urlsplit
 import pytest
 from playwright.sync_api import Browser, Page, sync_playwright
 
+from tests.registry.browser_watch import watch
+
 CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
 CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                   "--disable-background-networking", "--disable-component-update", "--disable-sync"]
@@ -41,10 +43,25 @@ def browser() -> Iterator[Browser]:
 
 
 @pytest.fixture
-def page(browser: Browser) -> Iterator[Page]:
+def expected_complaints() -> list[str]:
+    """Text a test expects in some complaints (each must turn up), in place of none at all."""
+    return []
+
+
+@pytest.fixture
+def page(browser: Browser, expected_complaints: list[str]) -> Iterator[Page]:
+    """A page that fails the test on a CSP violation, a script error or a console error."""
+    complaints: list[str] = []
     context = browser.new_context()
-    yield context.new_page()
+    page = context.new_page()
+    watch(page, complaints)
+    yield page
     context.close()
+    # Closed: every report the page sent has arrived.
+    for text in expected_complaints:
+        assert any(text in complaint for complaint in complaints), (text, complaints)
+    assert [complaint for complaint in complaints
+            if not any(text in complaint for text in expected_complaints)] == []
 
 
 def _offline(page: Page, server: str) -> list[str]:
@@ -75,9 +92,11 @@ def test_swagger_ui_lists_the_operations_without_any_outside_request(live_server
     assert failed == []
 
 
-def test_redoc_renders_the_schema_offline(live_server: Any, page: Page) -> None:
+def test_redoc_renders_the_schema_offline(live_server: Any, page: Page, expected_complaints: list[str]) -> None:
     outside = _offline(page, live_server.url)
     page.goto(f"{live_server.url}/api/v1/docs/redoc/")
     page.locator("h2", has_text="Evaluate ad-hoc beam parameters").wait_for(timeout=15_000)
-    # Redoc's own footer logo is the only outside address its bundle knows.
-    assert [url for url in outside if "redoc" not in url] == []
+    # Redoc's own footer logo is the only outside address its bundle knows; the policy refuses
+    # it before it is asked for, and says so. Nothing else may be refused.
+    assert outside == []
+    expected_complaints.append("https://cdn.redoc.ly/redoc/logo-mini.svg")

@@ -186,6 +186,9 @@ ROWS: dict[str, Row] = {
     "sop approve": Row("post", f"{V}/sops/{{id}}/approve/", lambda w: w.draft_sop.pk, lambda w: {}, LSO_WRITE),
     "sop acknowledge": Row("post", f"{V}/sops/{{id}}/acknowledge/", lambda w: w.sop.pk, None,
                            _s(401, 201, 403, 201, 201, 201)),
+    # The world's SOPs have no document: 404 to everyone who may read them (test_sop_documents
+    # serves real files, and refuses them to those who may not).
+    "sop document": Row("get", f"{V}/sops/{{id}}/document/", lambda w: w.sop.pk, None, _s(401, 404, 404, 404, 404, 404)),
     # Eyewear
     "eyewear list": Row("get", f"{V}/eyewear/", None, None, READERS),
     "eyewear detail": Row("get", f"{V}/eyewear/{{id}}/", lambda w: w.eyewear.pk, None, READERS),

@@ -94,13 +94,13 @@ class SOPDocumentTests(UpdateTestCase):
         etag = client.get(url)["ETag"]
         with override_settings(MEDIA_ROOT=media):
             response = client.patch(url, {"document": SimpleUploadedFile(
-                "alignment.txt", b"1. Close the enclosure before aligning.\n", content_type="text/plain")},
+                "alignment.pdf", b"%PDF-1.4\n1. Close the enclosure before aligning.\n", content_type="application/pdf")},
                 format="multipart", HTTP_IF_MATCH=etag)
             self.assertEqual(response.status_code, 200, response.content[:400])
             self.world.draft_sop.refresh_from_db()
             with self.world.draft_sop.document.open() as document:
-                self.assertEqual(document.read(), b"1. Close the enclosure before aligning.\n")
-        self.assertIn("alignment", response.json()["document"])
+                self.assertEqual(document.read(), b"%PDF-1.4\n1. Close the enclosure before aligning.\n")
+        self.assertEqual(response.json()["document"], f"http://testserver{url}document/")
 
 
 class FieldsAnUpdateCannotSetTests(UpdateTestCase):

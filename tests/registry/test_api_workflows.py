@@ -115,7 +115,7 @@ class WorkflowTests(TestCase):
         with override_settings(MEDIA_ROOT=self.media):
             uploaded = self.researcher_client.post("/api/v1/sops/", {
                 "laser": laser.pk, "title": "Operating W-0001",
-                "document": SimpleUploadedFile("sop.txt", b"1. Wear the goggles.\n", content_type="text/plain")},
+                "document": SimpleUploadedFile("sop.pdf", b"%PDF-1.4\n1. Wear the goggles.\n", content_type="application/pdf")},
                 format="multipart")
         self.assertEqual(uploaded.status_code, 201, uploaded.content)
         sop = SOP.objects.get(pk=uploaded.json()["id"])
