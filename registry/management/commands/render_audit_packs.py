@@ -14,6 +14,7 @@ from tqdm import tqdm
 
 from registry import selectors
 from registry.documents import Document, Paper, render_audit_report, render_pre_audit_pack
+from registry.services.scheduled import single_run
 
 
 def _date(text: str) -> datetime.date:
@@ -35,7 +36,7 @@ def _moment(text: str) -> datetime.datetime:
 class Command(BaseCommand):
     help = ("Render, into a folder, the PDF report of every audit signed off in a period (--closed-from/--closed-to) "
             "or the pre-audit pack of every room with a class 3B or 4 laser that is due or overdue for audit (--due). "
-            "Shows a progress bar on a terminal.")
+            "Shows a progress bar on a terminal. A run started while another is under way renders nothing.")
 
     def add_arguments(self, parser: CommandParser) -> None:
         parser.add_argument("--output", type=Path, required=True,
@@ -67,6 +68,14 @@ class Command(BaseCommand):
         output: Path = options["output"]
         if output.exists() and not output.is_dir():
             raise CommandError(f"{output} exists and is not a folder.")
+        # Every server's cron may start it: one run renders, the others stop here.
+        with single_run("render_audit_packs") as acquired:
+            if not acquired:
+                self.stdout.write("Another render_audit_packs is running; nothing rendered by this one.")
+                return
+            self._render(options, closed_from=closed_from, output=output)
+
+    def _render(self, options: dict[str, Any], *, closed_from: datetime.date | None, output: Path) -> None:
         generated_at = options["generated_at"] or timezone.now()
         paper = Paper(options["paper"])
 

@@ -8,19 +8,25 @@ from django.core.management.base import BaseCommand, CommandError, CommandParser
 
 from registry.models import ReminderKind
 from registry.services.reminders import reminders_send
+from registry.services.scheduled import single_run
 
 
 class Command(BaseCommand):
     help = ("Send the day's reminders: training that expires within 30 days or has expired (to the person and "
             "their supervisor) and the digest for laser safety officers. Run it daily; a reminder already sent "
-            "that day is not sent again.")
+            "that day is not sent again, and a run started while another is under way sends nothing.")
 
     def add_arguments(self, parser: CommandParser) -> None:
         parser.add_argument("--today", type=datetime.date.fromisoformat, default=None,
                             help="The day (YYYY-MM-DD) to remind for; default: today in TIME_ZONE.")
 
     def handle(self, *args: Any, **options: Any) -> None:
-        run = reminders_send(today=options["today"])
+        # Every server's cron may start it: one run sends, the others stop here.
+        with single_run("send_reminders") as acquired:
+            if not acquired:
+                self.stdout.write("Another send_reminders is running; nothing sent by this one.")
+                return
+            run = reminders_send(today=options["today"])
         for person in run.unreachable:
             self.stderr.write(f"  no e-mail address: {person} ({person.user.username})")
         for person, reason in run.failed:
