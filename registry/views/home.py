@@ -30,4 +30,4 @@ def home(request: PageRequest) -> HttpResponse:
             "standing": selectors.training_standings(people=[person], on=today)[person.pk],
             "limits": limits, "today": today})
     return render(request, "pages/home_inspector.html", {
-        "rooms": selectors.room_hazards(limits=limits), "audits": selectors.audit_list(), "limits": limits})
+        "rooms": selectors.room_hazards(limits=limits, summary=True), "audits": selectors.audit_list(), "limits": limits})

@@ -33,10 +33,11 @@ def _chosen_limits(request: HttpRequest) -> str:
 
 def _filtered(request: PageRequest, limits: str) -> tuple[LaserFilter, Any]:
     """The register filtered with the API's own filter set, within what the person may see."""
-    lasers = permissions.LASERS.visible(request.person, selectors.laser_register(limits=limits))
+    ordering = request.GET.get("ordering", "asset_tag")
+    lasers = permissions.LASERS.visible(request.person, selectors.laser_register(limits=limits, ordering=ordering))
     filters = LaserFilter(request.GET, queryset=lasers)
     chosen = filters.qs if filters.is_valid() else lasers.none()
-    return filters, chosen.order_by(*selectors.register_ordering(request.GET.get("ordering", "asset_tag")))
+    return filters, chosen.order_by(*selectors.register_ordering(ordering))
 
 
 @page(permissions.LASERS, "list")
