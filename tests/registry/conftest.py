@@ -2,9 +2,13 @@
 from __future__ import annotations
 
 from collections.abc import Iterator
+from typing import Any
 
 import pytest
+from django.db import transaction
 from django.test import override_settings
+
+from tests.registry.api_world import World, build_world
 
 
 @pytest.fixture(autouse=True, scope="session")
@@ -13,3 +17,18 @@ def fast_password_hasher(django_test_environment: None) -> Iterator[None]:
     # Session scope, so that it is in force for unittest setUpTestData as well.
     with override_settings(PASSWORD_HASHERS=["django.contrib.auth.hashers.MD5PasswordHasher"]):
         yield
+
+
+@pytest.fixture(scope="module")
+def api_world(django_db_setup: None, django_db_blocker: Any) -> Iterator[World]:
+    """tests.registry.api_world's register, built once per test module (and xdist worker).
+
+    For parametrized tests that each make a request or two: building it per test cost more
+    than the tests. It is held in a transaction rolled back after the module's last test;
+    each test's own transaction (the ``db`` fixture, which such tests must request) is a
+    savepoint inside it, so no test sees another's writes. Its instances are shared: read
+    their ids, not their fields after a write.
+    """
+    with django_db_blocker.unblock(), transaction.atomic():
+        yield build_world()
+        transaction.set_rollback(True)

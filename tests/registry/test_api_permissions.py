@@ -13,12 +13,11 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
+import pytest
 from django.core.cache import cache
-from django.db import transaction
-from django.test import TestCase
 from drf_spectacular.generators import SchemaGenerator
 
-from tests.registry.api_world import PERSONAS, World, build_world, register_state
+from tests.registry.api_world import PERSONAS, World, register_state
 
 Body = Callable[[World], dict[str, Any]] | None
 Target = Callable[[World], int] | None
@@ -283,81 +282,66 @@ ROWS: dict[str, Row] = {
 }
 
 
-class PermissionMatrixTests(TestCase):
-    world: World
-
-    @classmethod
-    def setUpTestData(cls) -> None:
-        cls.world = build_world()
-
-    def test_each_persona_gets_the_expected_status_and_refusals_change_nothing(self) -> None:
-        for name, row in ROWS.items():
-            for persona, expected in zip(PERSONAS, row.statuses):
-                with self.subTest(row=name, persona=persona):
-                    self._check(row, persona, expected)
-
-    def _check(self, row: Row, persona: str, expected: int) -> None:
-        # Sign-in throttling counts attempts in the cache; each case starts with none.
-        cache.clear()
-        with transaction.atomic():
-            headers = {}
-            if row.needs_if_match:
-                headers["HTTP_IF_MATCH"] = self.world.client("lso").get(row.path(self.world))["ETag"]
-            before = register_state()
-            client = self.world.client(persona)
-            body = row.body(self.world) if row.body else None
-            response = getattr(client, row.method)(row.path(self.world), body, format="json", **headers)
-            self.assertEqual(response.status_code, expected, response.content[:400])
-            if expected >= 400:
-                self.assertEqual(register_state(), before, "a refused request changed the register")
-            # Every case starts from the same register.
-            transaction.set_rollback(True)
-
-    def test_every_operation_is_in_the_matrix(self) -> None:
-        schema = SchemaGenerator().get_schema(request=None, public=True)
-        operations = {(method, path) for path, item in schema["paths"].items() for method in item
-                      if method in {"get", "post", "put", "patch", "delete"}}
-        covered = {(row.method, row.template) for row in ROWS.values()}
-        self.assertEqual(operations - covered, set())
+CASES = [(name, persona, expected) for name, row in ROWS.items() for persona, expected in zip(PERSONAS, row.statuses)]
 
 
-class OptionsTests(TestCase):
-    """OPTIONS describes only the writes the caller's role may make."""
+@pytest.mark.parametrize(("name", "persona", "expected"), CASES,
+                         ids=[f"{name}-{persona}" for name, persona, _expected in CASES])
+def test_each_persona_gets_the_expected_status_and_refusals_change_nothing(
+        name: str, persona: str, expected: int, api_world: World, db: None) -> None:
+    # One test per row and persona, so that xdist spreads the matrix over the workers; the
+    # register is built once per module (api_world) and each case's writes are rolled back.
+    row = ROWS[name]
+    # Sign-in throttling counts attempts in the cache; each case starts with none.
+    cache.clear()
+    headers = {}
+    if row.needs_if_match:
+        headers["HTTP_IF_MATCH"] = api_world.client("lso").get(row.path(api_world))["ETag"]
+    before = register_state()
+    client = api_world.client(persona)
+    body = row.body(api_world) if row.body else None
+    response = getattr(client, row.method)(row.path(api_world), body, format="json", **headers)
+    assert response.status_code == expected, response.content[:400]
+    if expected >= 400:
+        assert register_state() == before, "a refused request changed the register"
 
-    world: World
 
-    @classmethod
-    def setUpTestData(cls) -> None:
-        cls.world = build_world()
-
-    def test_the_create_form_is_described_only_to_roles_that_may_create(self) -> None:
-        for persona, described in (("lso", True), ("owner", True), ("user", False), ("inspector", False)):
-            with self.subTest(persona=persona):
-                response = self.world.client(persona).options("/api/v1/sops/")
-                self.assertEqual(response.status_code, 200)
-                self.assertIs("POST" in response.json().get("actions", {}), described)
-
-    def test_the_edit_form_of_a_laser_is_described_to_its_owner_not_to_an_outsider(self) -> None:
-        url = f"/api/v1/lasers/{self.world.laser.pk}/"
-        self.assertIn("PUT", self.world.client("owner").options(url).json()["actions"])
-        self.assertNotIn("actions", self.world.client("outsider").options(url).json())
+def test_every_operation_is_in_the_matrix() -> None:
+    schema = SchemaGenerator().get_schema(request=None, public=True)
+    operations = {(method, path) for path, item in schema["paths"].items() for method in item
+                  if method in {"get", "post", "put", "patch", "delete"}}
+    covered = {(row.method, row.template) for row in ROWS.values()}
+    assert operations - covered == set()
 
 
-class NoDeletionTests(TestCase):
-    world: World
+# OPTIONS describes only the writes the caller's role may make.
 
-    @classmethod
-    def setUpTestData(cls) -> None:
-        cls.world = build_world()
+@pytest.mark.parametrize(("persona", "described"), [("lso", True), ("owner", True), ("user", False), ("inspector", False)])
+def test_the_create_form_is_described_only_to_roles_that_may_create(
+        persona: str, described: bool, api_world: World, db: None) -> None:
+    response = api_world.client(persona).options("/api/v1/sops/")
+    assert response.status_code == 200
+    assert ("POST" in response.json().get("actions", {})) is described
 
-    def test_nothing_can_be_deleted_over_http(self) -> None:
-        # Lasers and compliance records are retired, never deleted (issue 2): no DELETE route.
-        details = {row.template for row in ROWS.values() if row.template.endswith("{id}/")}
-        self.assertGreater(len(details), 10)
-        for template in sorted(details):
-            row = next(row for row in ROWS.values() if row.template == template)
-            with self.subTest(template=template):
-                before = register_state()
-                response = self.world.client("lso").delete(row.path(self.world))
-                self.assertEqual(response.status_code, 405)
-                self.assertEqual(register_state(), before)
+
+def test_the_edit_form_of_a_laser_is_described_to_its_owner_not_to_an_outsider(api_world: World, db: None) -> None:
+    url = f"/api/v1/lasers/{api_world.laser.pk}/"
+    assert "PUT" in api_world.client("owner").options(url).json()["actions"]
+    assert "actions" not in api_world.client("outsider").options(url).json()
+
+
+DETAILS = sorted({row.template for row in ROWS.values() if row.template.endswith("{id}/")})
+
+
+def test_the_matrix_has_the_detail_routes() -> None:
+    assert len(DETAILS) > 10
+
+
+@pytest.mark.parametrize("template", DETAILS)
+def test_nothing_can_be_deleted_over_http(template: str, api_world: World, db: None) -> None:
+    # Lasers and compliance records are retired, never deleted (issue 2): no DELETE route.
+    row = next(row for row in ROWS.values() if row.template == template)
+    before = register_state()
+    response = api_world.client("lso").delete(row.path(api_world))
+    assert response.status_code == 405
+    assert register_state() == before
