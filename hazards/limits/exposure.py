@@ -4,7 +4,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterator
 from dataclasses import dataclass, field
-from typing import Any, TypedDict
+from typing import TypedDict
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray

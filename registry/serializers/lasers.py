@@ -1,8 +1,6 @@
 """Lasers, their emissions and the stored hazard results embedded in both."""
 from __future__ import annotations
 
-from typing import Any
-
 from rest_framework import serializers
 
 from hazards.caution import CAUTION

@@ -1,45 +1,22 @@
 """The interactive API documentation renders in a real browser with no internet access.
 
-Playwright drives Debian's chromium (no browser download). Its sync API runs an event
-loop in the test thread for as long as Playwright is open, during which Django refuses
-ORM calls (pytest-django's teardown flush among them) unless DJANGO_ALLOW_ASYNC_UNSAFE is
-set. So Playwright is started per module here, rather than through pytest-playwright's
-session-wide fixtures, and the variable is set only while it runs: it must not leak into
-the rest of the suite (test_settings runs `check --deploy`, which warns about it).
+Playwright drives Debian's chromium (no browser download), started per module by the
+``browser`` fixture of tests/registry/conftest.py, which says why.
 """
 from __future__ import annotations
 
-import os
 from collections.abc import Iterator
 from typing import Any
 from urllib.parse import urlsplit
 
 import pytest
-from playwright.sync_api import Browser, Page, sync_playwright
+from playwright.sync_api import Browser, Page
 
 from tests.registry.browser_watch import watch
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
 
-
-@pytest.fixture(scope="module")
-def browser() -> Iterator[Browser]:
-    previous = os.environ.get("DJANGO_ALLOW_ASYNC_UNSAFE")
-    os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
-    try:
-        with sync_playwright() as playwright:
-            browser = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_FLAGS)
-            yield browser
-            browser.close()
-    finally:
-        if previous is None:
-            del os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"]
-        else:
-            os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = previous
 
 
 @pytest.fixture

@@ -1,8 +1,7 @@
 """The register's pages in a real browser, on the demo campus, as each role uses them.
 
-Debian's chromium through Playwright's Python API against pytest-django's live server (see
-test_api_docs.py for why Playwright is started per module and DJANGO_ALLOW_ASYNC_UNSAFE is set
-only while it runs). Screenshots of the main pages go to test-artifacts/screenshots/ (gitignored;
+Debian's chromium through Playwright's Python API against pytest-django's live server (the
+``browser`` fixture of tests/registry/conftest.py). Screenshots of the main pages go to test-artifacts/screenshots/ (gitignored;
 BROWSER_ARTIFACTS names another folder) for a person to look at.
 """
 from __future__ import annotations
@@ -16,34 +15,16 @@ from typing import Any
 from urllib.parse import urlsplit
 
 import pytest
-from playwright.sync_api import Browser, Page, expect, sync_playwright
+from playwright.sync_api import Browser, Page, expect
 
 from registry.models import Emission, HazardResult, Laser, LaserStatus, Location
 from registry.services.campus import campus_load, campus_read
 from tests.registry.browser_watch import watch
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH", "/usr/bin/chromium")
-CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 ARTIFACTS = Path(os.environ.get("BROWSER_ARTIFACTS", Path(__file__).resolve().parents[2] / "test-artifacts"))
 
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
 
-
-@pytest.fixture(scope="module")
-def browser() -> Iterator[Browser]:
-    previous = os.environ.get("DJANGO_ALLOW_ASYNC_UNSAFE")
-    os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
-    try:
-        with sync_playwright() as playwright:
-            browser = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_FLAGS)
-            yield browser
-            browser.close()
-    finally:
-        if previous is None:
-            del os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"]
-        else:
-            os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = previous
 
 
 @pytest.fixture
