@@ -7,7 +7,7 @@ statistics (which bucket latencies) into the dependencies for none of that.
 
 Against a server already running (see DEVELOPERS.md, "Load test": gunicorn with 4 workers on
 PostgreSQL over the campus of bench/grow_campus.py), ``--users`` virtual users (default 20)
-send requests back to back until ``--requests`` have been sent or ``--duration`` seconds have
+send requests back to back (or pausing about ``--think`` seconds between them, as people do) until ``--requests`` have been sent or ``--duration`` seconds have
 passed, whichever comes first:
 
 - inspectors page the register (``/lasers/?page=N``) and the API's laser list;
@@ -125,6 +125,7 @@ class Load:
         self.location_id = ""
         self.acknowledged: dict[int, list[str]] = defaultdict(list)
         self.without: set[str] = set()
+        self.think = 0.0
 
     def running(self) -> bool:
         return self.stats.sent < self.budget and time.perf_counter() < self.deadline
@@ -207,6 +208,12 @@ class Load:
         weights = [MIX[route] for route in routes]
         while self.running():
             await self.act(self.random.choices(routes, weights)[0])
+            await self.pause()
+
+    async def pause(self) -> None:
+        """A person's pause between two clicks: uniform around ``think`` seconds (0: none)."""
+        if self.think:
+            await asyncio.sleep(self.random.uniform(0.5, 1.5) * self.think)
 
     async def editor(self, number: int) -> None:
         """Read a laser, change its description with If-Match; after a 412, read again."""
@@ -225,6 +232,7 @@ class Load:
             if change is not None and change.status_code == 200:
                 self.acknowledged[laser].append(mark)
                 edits += 1
+            await self.pause()
 
     async def lost_updates(self) -> list[str]:
         """The changes answered 200 that the final descriptions do not hold."""
@@ -246,7 +254,7 @@ def report(load: Load, lost: list[str], *, users: int) -> int:
     stats = load.stats
     elapsed = time.perf_counter() - stats.started
     answered = sum(len(values) for values in stats.latencies.values())
-    print(f"\n{users} users, {stats.sent} requests in {elapsed:.1f} s: {answered / elapsed:.1f} requests/s")
+    print(f"\n{users} users pausing {load.think:g} s between requests (on average), {stats.sent} requests in {elapsed:.1f} s: {answered / elapsed:.1f} requests/s")
     print(f"{'route':<24} {'n':>6} {'p50 ms':>8} {'p95 ms':>8} {'p99 ms':>8}  statuses")
     for route in [*MIX, "laser read (API)", "laser edit (API)"]:
         values = stats.latencies.get(route)
@@ -276,6 +284,7 @@ async def main_async(arguments: argparse.Namespace) -> int:
     async with httpx.AsyncClient(base_url=arguments.base_url, timeout=arguments.timeout, limits=limits) as client:
         load = Load(client, budget=arguments.requests, deadline=0.0, seed=arguments.seed)
         load.without = set(arguments.without)
+        load.think = arguments.think
         await load.prepare()
         load.stats = Stats()
         load.deadline = time.perf_counter() + arguments.duration
@@ -293,6 +302,9 @@ def main() -> None:
     parser.add_argument("--requests", type=int, default=3000, help="Stop after this many requests (default 3000).")
     parser.add_argument("--duration", type=float, default=180.0, help="Stop after this many seconds (default 180).")
     parser.add_argument("--timeout", type=float, default=60.0, help="Seconds one request may take (default 60).")
+    parser.add_argument("--think", type=float, default=0.0,
+                        help="Seconds each user pauses between requests, on average (default 0: back to back, "
+                             "the server's throughput; a person at work pauses several seconds).")
     parser.add_argument("--seed", type=int, default=13, help="Seed of the random choices (default 13).")
     parser.add_argument("--without", action="append", default=[], choices=list(MIX),
                         help="Leave a route out of the mix (repeatable), to measure the others without it.")
