@@ -32,9 +32,9 @@ from django.core.signals import request_finished, request_started
 from django.db import close_old_connections
 from hypothesis import HealthCheck, Phase, settings
 from rest_framework.authtoken.models import Token
-from rest_framework.test import APIClient
 from schemathesis.config import SchemathesisConfig
 from schemathesis.python.wsgi import HOST as WSGI_HOST
+from werkzeug.test import Client as WSGIClient
 
 from registry.api.urls import router
 from registry.wsgi import application
@@ -83,11 +83,12 @@ def _call_and_validate(case: schemathesis.Case, token: str, register: dict[str, 
         case.path_parameters["id"] = choices[zlib.crc32(choices[-1].encode()) % len(choices)]
     authorization = f"Token {token}"
     if case.headers and "If-Match" in case.headers:
-        # Read as this caller, through the same host: the representation's links name it.
-        read = APIClient().get(f"{PREFIX}{collection}/{case.path_parameters['id']}/",
-                               HTTP_AUTHORIZATION=authorization, HTTP_HOST=WSGI_HOST)
+        # Read as this caller, through the same WSGI host (the representation's links name it);
+        # not with django.test.Client, which reconnects close_old_connections after each call.
+        read = WSGIClient(application).get(f"{PREFIX}{collection}/{case.path_parameters['id']}/",
+                                           headers={"Authorization": authorization, "Host": WSGI_HOST})
         if read.status_code == 200:
-            case.headers["If-Match"] = read["ETag"]
+            case.headers["If-Match"] = read.headers["ETag"]
     case.call_and_validate(
         headers={"Authorization": authorization},
         excluded_checks=[schemathesis.checks.positive_data_acceptance, schemathesis.checks.negative_data_rejection],
