@@ -17,16 +17,6 @@ from drf_spectacular.views import SpectacularAPIView, SpectacularRedocView, Spec
 from rest_framework.permissions import AllowAny
 from rest_framework.routers import APIRootView
 
-
-class IndexView(APIRootView):
-    """/api/v1/: a link to every collection and to the other entry points (sign-in, schema, docs).
-
-    Open to anyone like the schema: it names URLs, and each collection it links answers 401
-    until the caller signs in. JSON for clients, DRF's browsable page for browsers.
-    """
-
-    permission_classes = [AllowAny]
-
 # Swagger UI draws its icons from data: URLs; Redoc styles itself by inserting <style>
 # elements from script and runs its search in a worker made from a blob: URL.
 SWAGGER_CSP = {"img-src": ["data:"]}
@@ -35,6 +25,17 @@ REDOC_CSP = {"img-src": ["data:"], "style-src": [UNSAFE_INLINE], "worker-src": [
 BROWSABLE_API_CSP = {"style-src": [UNSAFE_INLINE]}
 
 browsable_api_csp = method_decorator(csp_update(BROWSABLE_API_CSP), name="dispatch")
+
+
+@browsable_api_csp
+class IndexView(APIRootView):
+    """/api/v1/: a link to every collection and to the other entry points (sign-in, schema, docs).
+
+    Open to anyone like the schema: it names URLs, and each collection it links answers 401
+    until the caller signs in. JSON for clients, DRF's browsable page for browsers.
+    """
+
+    permission_classes = [AllowAny]
 
 
 class SchemaView(SpectacularAPIView):

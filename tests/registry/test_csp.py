@@ -54,3 +54,6 @@ def test_swagger_ui_starts_from_a_script_of_its_own_not_an_inline_one(client: Cl
 def test_the_browsable_api_may_use_style_attributes_but_no_inline_script(client: Client) -> None:
     client.force_login(person_create(username="holloway", role="lso").user)
     assert _policy(client, "/api/v1/lasers/?format=api") == STRICT | {"style-src": "'self' 'unsafe-inline'"}
+    # The API index is a browsable page too, open before signing in.
+    client.logout()
+    assert _policy(client, "/api/v1/?format=api") == STRICT | {"style-src": "'self' 'unsafe-inline'"}
