@@ -20,15 +20,20 @@ from django.utils import timezone
 from registry.models import Laser, Location, Person
 from registry.services import import_uploads
 from tests import factories
-from tests.registry.test_laser_import import (
+# The command's tests' people, room and sheet writers are the page's too (fixtures imported
+# by name: lso, owner, room, write_sheet).
+from tests.registry.test_laser_import import (  # noqa: F401
     HEADER,
     SheetWriter,
     history_rows,
+    lso,
     messy_rows,
+    owner,
     register_rows,
+    room,
     row,
     write_csv,
-    write_xlsx,
+    write_sheet,
 )
 
 pytestmark = pytest.mark.django_db
@@ -39,27 +44,6 @@ def upload_dir(settings: object, tmp_path: Path) -> Path:
     folder = tmp_path / "imports"
     settings.IMPORT_UPLOAD_DIR = folder  # type: ignore[attr-defined]
     return folder
-
-
-@pytest.fixture(params=[write_csv, write_xlsx], ids=["csv", "xlsx"])
-def write_sheet(request: pytest.FixtureRequest) -> SheetWriter:
-    writer: SheetWriter = request.param
-    return writer
-
-
-@pytest.fixture
-def lso() -> Person:
-    return factories.PersonFactory.create(role="lso", research_group=None, user__username="officer")
-
-
-@pytest.fixture
-def owner() -> Person:
-    return factories.PersonFactory.create(role="researcher", user__username="r.vale", user__email="R.Vale@lab.example")
-
-
-@pytest.fixture
-def room() -> Location:
-    return factories.LocationFactory.create(site="North campus", building="Kestrel Building", room="0.12")
 
 
 def signed_in(person: Person) -> Client:
