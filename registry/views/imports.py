@@ -2,13 +2,12 @@
 from __future__ import annotations
 
 from django.contrib import messages
-from django.core.exceptions import ValidationError
 from django.http import HttpResponse
 from django.shortcuts import redirect, render
 from django.views.decorators.http import require_POST
 
 from registry import permissions
-from registry.forms import LaserImportForm, add_service_errors
+from registry.forms import LaserImportForm, submit_to_service
 from registry.services.import_uploads import (
     STAGED_IMPORT_MAX_AGE,
     StagedImportRefused,
@@ -36,14 +35,10 @@ def laser_import_upload(request: PageRequest) -> HttpResponse:
     if request.method != "POST":
         return _render(request, LaserImportForm())
     form = LaserImportForm(request.POST, request.FILES)
-    if not form.is_valid():
-        return _render(request, form)
-    upload = form.cleaned_data["file"]
-    try:
-        staged = laser_import_stage(stream=upload, name=upload.name, size=upload.size, by=request.person,
-                                    create_locations=form.cleaned_data["create_locations"], session=request.session)
-    except ValidationError as error:
-        add_service_errors(form, error)
+    staged = submit_to_service(form, lambda values: laser_import_stage(
+        stream=values["file"], name=values["file"].name, size=values["file"].size, by=request.person,
+        create_locations=values["create_locations"], session=request.session))
+    if staged is None:
         return _render(request, form)
     return _render(request, LaserImportForm(), staged.report, staged.token)
 
