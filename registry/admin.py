@@ -499,6 +499,10 @@ class SentReminderAdmin(admin.ModelAdmin):
         return False
 
 
+# The pages link here as the "Back office"; the admin says so in its own header.
+admin.site.site_header = admin.site.site_title = _("Beamkeeper back office")
+admin.site.index_title = _("The register's records")
+
 User = get_user_model()
 admin.site.unregister(User)
 

@@ -144,3 +144,9 @@ def test_emissions_saved_in_the_admin_are_assessed(lso_client: Client) -> None:
     emission.refresh_from_db()
     assert emission.average_power_W == 0.02
     assert emission.hazard_results.count() == len(LIMIT_SETS)
+
+
+def test_the_admin_is_headed_as_the_pages_name_it(lso_client: Client) -> None:
+    page = lso_client.get("/admin/").content.decode()
+    assert "Beamkeeper back office" in page
+    assert "Django administration" not in page
