@@ -601,10 +601,17 @@ def _first_items(rows: QuerySet[Any]) -> FirstItems[Any]:
 
 @dataclass(frozen=True)
 class RoomAttention:
-    """A room's stored standing with the first emissions it names, each as its result (emission and laser loaded)."""
+    """A room's stored standing with ``count`` emissions to attend to, the first of them named, each as its
+    result (emission and laser loaded)."""
 
     standing: RoomStanding
+    count: int
     first: list[HazardResult]
+
+    @property
+    def more(self) -> int:
+        """How many of the ``count`` are not named."""
+        return self.count - len(self.first)
 
 
 # Findings by severity, the gravest first.
@@ -732,9 +739,11 @@ def _rooms_with_first_emissions(eyewear: list[RoomStanding], nohd: list[RoomStan
         "emission_id", "limits", "nohd_m", "nohd_unbounded", "od_required", "emission__wavelength_m",
         "emission__wavelength_max_m", "emission__laser_id", "emission__laser__asset_tag")} if wanted else {}
     return {
-        "eyewear": [RoomAttention(standing, [results[pk] for pk in standing.unprotected_first if pk in results])
+        "eyewear": [RoomAttention(standing, standing.unprotected,
+                                  [results[pk] for pk in standing.unprotected_first if pk in results])
                     for standing in eyewear],
-        "nohd": [RoomAttention(standing, [results[pk] for pk in standing.beyond_room_first if pk in results])
+        "nohd": [RoomAttention(standing, standing.beyond_room,
+                               [results[pk] for pk in standing.beyond_room_first if pk in results])
                  for standing in nohd],
     }
 
