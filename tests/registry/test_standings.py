@@ -4,12 +4,15 @@ from __future__ import annotations
 
 import datetime
 import io
+import threading
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 import pytest
 from django.core.management import call_command
-from django.test import Client
+from django.db import connection
+from django.test import Client, TransactionTestCase
 from django.urls import reverse
 from rest_framework.test import APIClient
 
@@ -252,3 +255,40 @@ def test_the_campus_loader_stores_every_room_s_standing() -> None:
     campus_load(data=campus_read(), today=datetime.date(2026, 12, 2))
     assert RoomStanding.objects.count() == Location.objects.count() * len(LIMIT_SETS)
     assert_standings_current()
+
+
+def _together(*steps: Callable[[], object]) -> None:
+    """Run ``steps`` from one thread each, released together."""
+    start = threading.Barrier(len(steps))
+
+    def run(step: Callable[[], object]) -> None:
+        try:
+            start.wait()
+            step()
+        finally:
+            connection.close()
+
+    threads = [threading.Thread(target=run, args=(step,)) for step in steps]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+
+
+@pytest.mark.skipif(connection.vendor != "postgresql", reason="row locks need PostgreSQL; SQLite runs one writer "
+                                                              "at a time")
+class SimultaneousChangesTests(TransactionTestCase):
+    """Two changes to one room at the same moment: the standing written last has seen both."""
+
+    def test_an_eyewear_inspection_and_a_laser_moving_out_at_once_both_reach_the_standing(self) -> None:
+        campus = Campus()
+        services.eyewear_update(eyewear=campus.goggles, by=campus.lso, location=campus.lab)
+        for round_number in range(10):
+            with self.subTest(round=round_number):
+                condition = "damaged" if round_number % 2 == 0 else "good"
+                room = campus.hall if round_number % 2 == 0 else campus.lab
+                goggles = Eyewear.objects.get(pk=campus.goggles.pk)
+                weak = Laser.objects.get(pk=campus.weak.pk)
+                _together(lambda: services.eyewear_inspect(eyewear=goggles, by=campus.lso, condition=condition),
+                          lambda: services.laser_update(laser=weak, by=campus.lso, location=room))
+                assert_standings_current()
