@@ -27,6 +27,7 @@ from registry.models import (
     Location,
     RoomStanding,
 )
+from registry.services._logging import service_action
 
 _STANDING_VALUES = ["lasers", "largest_nohd_m", "largest_nohd_unbounded", "unprotected", "unprotected_od_max",
                     "unprotected_first", "beyond_room", "beyond_room_first", "computed_at"]
@@ -46,6 +47,7 @@ def standing_rooms(record: models.Model) -> set[int]:
     return set() if room is None else {room}
 
 
+@service_action
 @transaction.atomic
 def room_standings_refresh(*, locations: Iterable[int | None]) -> None:
     """Recompute and store the standing of the rooms with ids ``locations`` under every limit set.
