@@ -621,7 +621,7 @@ class HomeAttentionTests(TestCase):
         html = client.get("/").content.decode()
         links = {"/review/": "TST-0002", "/lasers/?status=pending_review": "WAIT-0001",
                  "/locations/?needs=eyewear": "Cedar Hall C1", "/locations/?needs=nohd": "Cedar Hall C1",
-                 "/locations/?needs=audit": "Cedar Hall C1", "/people/": "Uma Pell",
+                 "/locations/?needs=audit": "Cedar Hall C1", "/people/": "Rhea Tallis",
                  "/admin/registry/authorization/?status__exact=requested": "TST-0001",
                  "/admin/registry/finding/?status__exact=open": "TST-AUD-2",
                  "/admin/registry/emission/?assessment_problem__isempty=0": "NOFIG-0001"}

@@ -18,7 +18,7 @@ from rest_framework.test import APIClient
 
 from hazards.limits import LIMIT_SETS
 from registry import selectors, services
-from registry.models import Eyewear, Laser, Location, Person, RoomStanding
+from registry.models import Eyewear, Laser, Location, RoomStanding
 from registry.services.standings import room_standings_refresh
 from tests import factories
 
@@ -76,9 +76,9 @@ class Campus:
     def standing(self, room: Location) -> RoomStanding:
         return RoomStanding.objects.get(location=room, limits=selectors.register_limits())
 
-    def api(self, person: Person | None = None) -> APIClient:
+    def api(self) -> APIClient:
         client = APIClient()
-        client.force_authenticate(user=(person or self.lso).user)
+        client.force_authenticate(user=self.lso.user)
         return client
 
     def patch(self, url: str, body: dict[str, Any]) -> None:
