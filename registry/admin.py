@@ -87,6 +87,12 @@ def _may_delete(request: HttpRequest) -> bool:
     return bool(request.user.is_superuser)
 
 
+def _refresh_standings(rooms: set[int]) -> None:
+    # Most records (people, audits, training) enter no room's standing: no refresh, and no log line.
+    if rooms:
+        room_standings_refresh(locations=rooms)
+
+
 class RegisterAdmin(SimpleHistoryAdmin):
     """Base of every admin page of the register."""
 
@@ -101,17 +107,17 @@ class RegisterAdmin(SimpleHistoryAdmin):
 
     def save_related(self, request: HttpRequest, form: BaseModelForm, formsets: Any, change: bool) -> None:
         super().save_related(request, form, formsets, change)
-        room_standings_refresh(locations=form.rooms_before | standing_rooms(form.instance))  # type: ignore[attr-defined]
+        _refresh_standings(form.rooms_before | standing_rooms(form.instance))  # type: ignore[attr-defined]
 
     def delete_model(self, request: HttpRequest, obj: Any) -> None:
         rooms = standing_rooms(obj)
         super().delete_model(request, obj)
-        room_standings_refresh(locations=rooms)
+        _refresh_standings(rooms)
 
     def delete_queryset(self, request: HttpRequest, queryset: QuerySet[Any]) -> None:
         rooms = set().union(*(standing_rooms(record) for record in queryset))
         super().delete_queryset(request, queryset)
-        room_standings_refresh(locations=rooms)
+        _refresh_standings(rooms)
 
     def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
         # A retired record, and what belongs to a retired laser, is shown to read, not to change.
