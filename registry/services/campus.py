@@ -43,9 +43,9 @@ from registry.models import (
 from registry.services._common import quantity
 from registry.services._logging import service_action
 from registry.services.hazards import hazard_results_refresh
-from registry.services.standings import room_standings_refresh
 from registry.services.lasers import emission_values
 from registry.services.people import person_sync_account
+from registry.services.standings import room_standings_refresh
 
 ModelT = TypeVar("ModelT", bound=models.Model)
 
