@@ -6,7 +6,8 @@ in with), then copies its lasers, each with its emissions and their stored hazar
 under new asset tags (``<tag>-G00001``...) until the register holds ``--lasers`` lasers. The
 copies keep the demo's mix of classes, statuses, owners and rooms, and their results are the
 engine's own (computed once for the demo); they are written with bulk inserts, without
-history rows, since the load test reads them and edits only a few.
+history rows, since the load test reads them and edits only a few; each room's stored standing
+(services.standings) is computed once at the end.
 
 The database must be a scratch one: every table is emptied first (``flush``). DATABASE_URL
 from the environment is ignored on purpose, as in bench/api.py.
@@ -37,8 +38,9 @@ def grow(*, lasers: int) -> None:
     from django.core.management import call_command
     from django.db import connection, transaction
 
-    from registry.models import Emission, HazardResult, Laser
+    from registry.models import Emission, HazardResult, Laser, Location
     from registry.services.campus import campus_load, campus_read
+    from registry.services.standings import room_standings_refresh
 
     call_command("migrate", verbosity=0)
     call_command("createcachetable", verbosity=0)
@@ -63,6 +65,8 @@ def grow(*, lasers: int) -> None:
             HazardResult.objects.bulk_create([_copy(result, emission=copy) for copy, template in emissions
                                               for result in template.hazard_results.all()])
         print(f"  {number}/{missing} ({time.perf_counter() - started:.0f} s)", flush=True)
+    # Bulk inserts skip the services, which keep each room's stored standing.
+    room_standings_refresh(locations=Location.objects.values_list("pk", flat=True))
     if connection.vendor == "postgresql":
         with connection.cursor() as cursor:
             cursor.execute("ANALYZE")  # the planner's statistics, for the register's new size

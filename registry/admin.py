@@ -28,6 +28,7 @@ from registry import selectors, services
 from registry.filters import search_problem
 from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm, RegisterForm
 from registry.services.hazards import hazard_results_refresh
+from registry.services.standings import room_standings_refresh, standing_rooms
 from registry.models import (
     SOP,
     Audit,
@@ -43,6 +44,7 @@ from registry.models import (
     Location,
     Person,
     ResearchGroup,
+    RoomStanding,
     SentReminder,
     SOPAcknowledgement,
     TrainingRecord,
@@ -85,10 +87,37 @@ def _may_delete(request: HttpRequest) -> bool:
     return bool(request.user.is_superuser)
 
 
+def _refresh_standings(rooms: set[int]) -> None:
+    # Most records (people, audits, training) enter no room's standing: no refresh, and no log line.
+    if rooms:
+        room_standings_refresh(locations=rooms)
+
+
 class RegisterAdmin(SimpleHistoryAdmin):
     """Base of every admin page of the register."""
 
     form = RegisterForm
+
+    # Saves and deletes here skip the services, so the rooms a record enters (where it was and where it is)
+    # get their stored standing refreshed here, in the same transaction (services.standings).
+    def save_model(self, request: HttpRequest, obj: Any, form: BaseModelForm, change: bool) -> None:
+        stored = type(obj)._base_manager.filter(pk=obj.pk).first() if change else None
+        form.rooms_before = standing_rooms(stored) if stored is not None else set()  # type: ignore[attr-defined]
+        super().save_model(request, obj, form, change)
+
+    def save_related(self, request: HttpRequest, form: BaseModelForm, formsets: Any, change: bool) -> None:
+        super().save_related(request, form, formsets, change)
+        _refresh_standings(form.rooms_before | standing_rooms(form.instance))  # type: ignore[attr-defined]
+
+    def delete_model(self, request: HttpRequest, obj: Any) -> None:
+        rooms = standing_rooms(obj)
+        super().delete_model(request, obj)
+        _refresh_standings(rooms)
+
+    def delete_queryset(self, request: HttpRequest, queryset: QuerySet[Any]) -> None:
+        rooms = set().union(*(standing_rooms(record) for record in queryset))
+        super().delete_queryset(request, queryset)
+        _refresh_standings(rooms)
 
     def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
         # A retired record, and what belongs to a retired laser, is shown to read, not to change.
@@ -222,7 +251,7 @@ class LaserAdmin(RetainedAdmin):
 class EmissionAdmin(RegisterAdmin):
     form = EmissionForm
     list_display = ["__str__", "label", "temporal_mode", "average_power", "pulse_energy"]
-    list_filter = ["temporal_mode", "laser__labelled_class"]
+    list_filter = ["temporal_mode", "laser__labelled_class", ("assessment_problem", admin.EmptyFieldListFilter)]
     search_fields = ["laser__asset_tag", "label"]
     list_select_related = ["laser"]
     autocomplete_fields = ["laser"]
@@ -488,6 +517,37 @@ class SentReminderAdmin(admin.ModelAdmin):
     search_fields = ["recipient__user__username", "address", "subject"]
     list_select_related = ["recipient__user"]
     date_hierarchy = "sent_on"
+
+    def has_add_permission(self, request: HttpRequest) -> bool:
+        return False
+
+    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return False
+
+    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
+        return False
+
+
+@admin.register(RoomStanding)
+class RoomStandingAdmin(admin.ModelAdmin):
+    """Each room's stored standing, to read: the register writes it whenever what it is made from
+    changes (services.standings), so it has no history and no edit."""
+
+    list_display = ["location", "limits", "lasers", "unprotected", "beyond_room", "largest_nohd", "computed_at"]
+    list_filter = ["limits"]
+    search_fields = ["location__code", "location__building", "location__room"]
+    list_select_related = ["location"]
+    fields = ["location", "limits", "lasers", "largest_nohd", "unprotected", "unprotected_od", "unprotected_first",
+              "beyond_room", "beyond_room_first", "computed_at"]
+    readonly_fields = fields
+
+    @admin.display(description=_("largest NOHD"), ordering="largest_nohd_m")
+    def largest_nohd(self, standing: RoomStanding) -> str:
+        return hazard_figures.distance(standing.largest_nohd_m, standing.largest_nohd_unbounded)
+
+    @admin.display(description=_("highest OD required without adequate eyewear"))
+    def unprotected_od(self, standing: RoomStanding) -> str:
+        return "-" if standing.unprotected_od_max is None else hazard_figures.optical_density(standing.unprotected_od_max)
 
     def has_add_permission(self, request: HttpRequest) -> bool:
         return False

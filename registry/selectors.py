@@ -11,10 +11,11 @@ import math
 import re
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Generic, TypeVar
 
 from django.conf import settings
-from django.db.models import Case, Exists, F, FloatField, Max, OuterRef, Prefetch, Q, QuerySet, Value, When
+from django.core.paginator import Page, Paginator
+from django.db.models import BooleanField, Case, Count, Exists, F, FloatField, Max, OuterRef, Prefetch, Q, QuerySet, Value, When
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -43,6 +44,7 @@ from registry.models import (
     Location,
     Person,
     Role,
+    RoomStanding,
     SOPAcknowledgement,
     SOPStatus,
     TrainingRecord,
@@ -467,12 +469,13 @@ def audits_due(*, today: datetime.date | None = None, within_days: int | None = 
     Two queries: the locations and the audits covering them. Overdue first, then by due date.
     """
     day = today or timezone.localdate()
-    hazardous = (Q(lasers__labelled_class__in=HAZARDOUS_CLASSES) | Q(lasers__embedded_class__in=HAZARDOUS_CLASSES)) \
-        & ~Q(lasers__status__in=RETIRED_STATUSES)
-    rooms = Location.objects.filter(hazardous)
+    # A semi-join: each room is settled by its first such laser, where a join read them all.
+    hazardous = Laser.objects.filter(Q(labelled_class__in=HAZARDOUS_CLASSES) | Q(embedded_class__in=HAZARDOUS_CLASSES),
+                                     location=OuterRef("pk")).exclude(status__in=RETIRED_STATUSES)
+    rooms = Location.objects.filter(Exists(hazardous))
     if locations is not None:
         rooms = rooms.filter(pk__in=[location.pk for location in locations])
-    locations = list(rooms.distinct().order_by("site", "building", "room"))
+    locations = list(rooms.order_by("site", "building", "room"))
     covering = Q(scope=AuditScope.LOCATION, location__in=locations) | Q(scope=AuditScope.SITE)
     audits = Audit.objects.filter(covering, retired_at__isnull=True).select_related("location").order_by("conducted_on")
     signed_off = [audit for audit in audits if audit.status == AuditStatus.SIGNED_OFF]
@@ -576,49 +579,173 @@ def training_standings(*, people: Iterable[Person], on: datetime.date | None = N
     return standings
 
 
-_SEVERITY_ORDER = {"critical": 0, "major": 1, "minor": 2, "observation": 3}
+# How many items of each kind a home page names, the most urgent first; its counts cover them all
+# and it links to the full lists.
+HOME_FIRST_ITEMS = 5
+
+T = TypeVar("T")
+
+
+@dataclass(frozen=True)
+class FirstItems(Generic[T]):
+    """How many items a list holds, and the first HOME_FIRST_ITEMS of them."""
+
+    count: int
+    first: list[T]
+
+
+def _first_items(rows: QuerySet[Any]) -> FirstItems[Any]:
+    """Two queries: the count and the first rows."""
+    return FirstItems(count=rows.count(), first=list(rows[:HOME_FIRST_ITEMS]))
+
+
+@dataclass(frozen=True)
+class RoomAttention:
+    """A room's stored standing with ``count`` emissions to attend to, the first of them named, each as its
+    result (emission and laser loaded)."""
+
+    standing: RoomStanding
+    count: int
+    first: list[HazardResult]
+
+    @property
+    def more(self) -> int:
+        """How many of the ``count`` are not named."""
+        return self.count - len(self.first)
+
+
+# Findings by severity, the gravest first.
+_SEVERITY_RANK = Case(*(When(severity=severity, then=Value(rank)) for rank, severity in enumerate(
+    ("critical", "major", "minor", "observation"))), default=Value(9))
 
 
 @dataclass(frozen=True)
 class Attention:
-    """What needs the LSO's attention today (the LSO's home page)."""
+    """What needs the LSO's attention today (the LSO's home page): of each kind, how many and the most urgent."""
 
-    awaiting_review: list[Laser]
-    training_due: list[TrainingStanding]
-    authorizations_pending: list[Authorization]
-    audits_due: list[AuditDue]
-    findings: list[Finding]
-    overdue_findings: set[int]
-    eyewear_inadequate: list[RoomHazards]
-    nohd_beyond_room: list[RoomHazards]
-    not_assessed: list[Emission]
+    awaiting_review: FirstItems[Laser]
+    training_due: FirstItems[TrainingStanding]
+    authorizations_pending: FirstItems[Authorization]
+    audits_due: FirstItems[AuditDue]
+    findings: FirstItems[Finding]  # each with ``is_overdue``: overdue first, then by severity and due date
+    findings_overdue: int
+    eyewear_inadequate: FirstItems[RoomAttention]
+    nohd_beyond_room: FirstItems[RoomAttention]
+    not_assessed: FirstItems[Emission]
 
 
-def lso_attention(*, today: datetime.date | None = None) -> Attention:
-    """Everything the LSO's home lists, in a fixed number of queries however big the register."""
+def lso_attention(*, today: datetime.date | None = None, limits: str | None = None) -> Attention:
+    """Everything the LSO's home lists, in 15 queries however big the register: each kind's count
+    and its first HOME_FIRST_ITEMS. The rooms come from their stored standing (RoomStanding, under
+    ``limits``), never from the register's lasers. Lists of people (training) and rooms (audits,
+    standings) are read whole, since they grow with the site, not with the register."""
     day = today or timezone.localdate()
     trained = person_list().filter(training_records__course__in=GENERAL_COURSES).distinct()
     standings = training_standings(people=trained, on=day)
     due = sorted((standing for standing in standings.values() if not standing.current or standing.expiring),
                  key=lambda standing: standing.valid_until or datetime.date.min)
-    findings = list(finding_open_list())
-    overdue = {finding.pk for finding in findings if finding.due_on is not None and finding.due_on < day}
-    findings.sort(key=lambda finding: (finding.pk not in overdue, _SEVERITY_ORDER.get(finding.severity, 9),
-                                       finding.due_on or datetime.date.max))
-    rooms = room_hazards(summary=True)
+    findings = finding_open_list().annotate(
+        is_overdue=Case(When(due_on__lt=day, then=Value(True)), default=Value(False), output_field=BooleanField()),
+        severity_rank=_SEVERITY_RANK,
+    ).order_by("-is_overdue", "severity_rank", F("due_on").asc(nulls_last=True), "pk")
+    open_findings = finding_open_list().aggregate(count=Count("pk"), overdue=Count("pk", filter=Q(due_on__lt=day)))
+    eyewear = list(room_standings(limits=limits, needs="eyewear"))
+    beyond = list(room_standings(limits=limits, needs="nohd"))
+    shown = _rooms_with_first_emissions(eyewear[:HOME_FIRST_ITEMS], beyond[:HOME_FIRST_ITEMS], limits=limits)
+    audits = audits_due(today=day, within_days=AUDIT_NOTICE_DAYS)
     return Attention(
-        awaiting_review=list(laser_list().filter(status=LaserStatus.PENDING_REVIEW).order_by("created_at")),
-        training_due=due,
-        authorizations_pending=list(authorization_list().filter(status=AuthorizationStatus.REQUESTED,
-                                                                retired_at__isnull=True).order_by("requested_at")),
-        audits_due=audits_due(today=day),
-        findings=findings,
-        overdue_findings=overdue,
-        eyewear_inadequate=[room for room in rooms if room.matrix.unprotected],
-        nohd_beyond_room=[room for room in rooms if room.beyond_room],
-        not_assessed=list(Emission.objects.select_related("laser").exclude(assessment_problem="")
-                          .exclude(laser__status__in=RETIRED_STATUSES).order_by("laser__asset_tag", "wavelength_m")),
+        awaiting_review=_first_items(Laser.objects.select_related("owner__user").filter(
+            status=LaserStatus.PENDING_REVIEW).order_by("created_at", "pk")),
+        training_due=FirstItems(len(due), due[:HOME_FIRST_ITEMS]),
+        authorizations_pending=_first_items(authorization_list().filter(
+            status=AuthorizationStatus.REQUESTED, retired_at__isnull=True).order_by("requested_at", "pk")),
+        audits_due=FirstItems(len(audits), audits[:HOME_FIRST_ITEMS]),
+        findings=FirstItems(open_findings["count"], list(findings[:HOME_FIRST_ITEMS])),
+        findings_overdue=open_findings["overdue"],
+        eyewear_inadequate=FirstItems(len(eyewear), shown["eyewear"]),
+        nohd_beyond_room=FirstItems(len(beyond), shown["nohd"]),
+        # In the order the lasers were registered, which the index of emissions not assessed reads first.
+        not_assessed=_first_items(Emission.objects.select_related("laser").exclude(assessment_problem="")
+                                  .exclude(laser__status__in=RETIRED_STATUSES).order_by("laser_id", "wavelength_m",
+                                                                                        "pk")),
     )
+
+
+# What a room may need attention for (the rooms list's ?needs=): eyewear that leaves an emission
+# unprotected, a NOHD beyond the room, an audit due within AUDIT_NOTICE_DAYS or overdue.
+ROOM_NEEDS = ("eyewear", "nohd", "audit")
+AUDIT_NOTICE_DAYS = 30
+
+
+def room_standings(*, limits: str | None = None, needs: str = "") -> QuerySet[RoomStanding]:
+    """The stored standing (under ``limits``) of each room holding a laser in the register's care, with
+    its room; the most urgent first: rooms whose eyewear leaves an emission unprotected (the highest OD
+    required first), then rooms where a NOHD exceeds the room (the longest first), then the others by
+    site, building and room. ``needs="eyewear"`` or ``"nohd"`` keeps only those rooms, the latter
+    ordered by their longest NOHD."""
+    standings = RoomStanding.objects.select_related("location").filter(limits=limits or register_limits(), lasers__gt=0)
+    by_room = ["location__site", "location__building", "location__room"]
+    longest_first = [F("largest_nohd_unbounded").desc(), F("largest_nohd_m").desc(nulls_last=True)]
+    if needs == "nohd":
+        return standings.filter(beyond_room__gt=0).order_by(*longest_first, *by_room)
+    if needs == "eyewear":
+        standings = standings.filter(unprotected__gt=0)
+    urgency = Case(When(unprotected__gt=0, then=Value(0)), When(beyond_room__gt=0, then=Value(1)), default=Value(2))
+    return standings.order_by(urgency, F("unprotected_od_max").desc(nulls_last=True), "-unprotected",
+                              *longest_first, *by_room)
+
+
+@dataclass(frozen=True)
+class RoomRow:
+    """A room of the rooms list: its stored standing and when its audit is due (None: no class 3B/4 laser)."""
+
+    standing: RoomStanding
+    audit: AuditDue | None
+
+
+ROOMS_PER_PAGE = 50
+# The inspector's home shows the first rooms of the list.
+HOME_ROOMS = 10
+
+
+def room_list_page(*, number: str | int | None, needs: str = "", limits: str | None = None,
+                   today: datetime.date | None = None, per_page: int = ROOMS_PER_PAGE) -> Page:
+    """Page ``number`` of the rooms list: RoomRows, the most urgent first (room_standings), or with
+    ``needs="audit"`` the rooms whose audit is due within AUDIT_NOTICE_DAYS or overdue, overdue first
+    (audits_due). Four queries however many rooms and lasers: the count, the standings, and two for
+    the audit dates of the page's rooms; with ``needs="audit"`` three: the rooms due (two), then the
+    standings of the page's."""
+    day = today or timezone.localdate()
+    if needs == "audit":
+        page = Paginator(audits_due(today=day, within_days=AUDIT_NOTICE_DAYS), per_page).get_page(number)
+        standings = {standing.location_id: standing for standing in room_standings(limits=limits).filter(
+            location__in=[due.location for due in page])}
+        page.object_list = [RoomRow(standings[due.location.pk], due) for due in page if due.location.pk in standings]
+        return page
+    page = Paginator(room_standings(limits=limits, needs=needs), per_page).get_page(number)
+    audits = {due.location.pk: due for due in audits_due(
+        today=day, within_days=None, locations=[standing.location for standing in page])}
+    page.object_list = [RoomRow(standing, audits.get(standing.location_id)) for standing in page]
+    return page
+
+
+def _rooms_with_first_emissions(eyewear: list[RoomStanding], nohd: list[RoomStanding], *,
+                                limits: str | None) -> dict[str, list[RoomAttention]]:
+    """The rooms of each list with the first emissions their standing names (one query for both)."""
+    wanted = {pk for standing in eyewear for pk in standing.unprotected_first} | {
+        pk for standing in nohd for pk in standing.beyond_room_first}
+    results = {result.emission_id: result for result in HazardResult.objects.filter(
+        limits=limits or register_limits(), emission_id__in=wanted).select_related("emission__laser").only(
+        "emission_id", "limits", "nohd_m", "nohd_unbounded", "od_required", "emission__wavelength_m",
+        "emission__wavelength_max_m", "emission__laser_id", "emission__laser__asset_tag")} if wanted else {}
+    return {
+        "eyewear": [RoomAttention(standing, standing.unprotected,
+                                  [results[pk] for pk in standing.unprotected_first if pk in results])
+                    for standing in eyewear],
+        "nohd": [RoomAttention(standing, standing.beyond_room,
+                               [results[pk] for pk in standing.beyond_room_first if pk in results])
+                 for standing in nohd],
+    }
 
 
 @dataclass(frozen=True)

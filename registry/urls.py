@@ -28,6 +28,7 @@ urlpatterns = [
     path("lasers/<int:pk>/emissions/<int:emission_pk>/distance.svg", lasers.distance_chart, name="chart-distance"),
     path("review/", review.review_queue, name="review"),
     path("review/<int:pk>/", review.review_decide, name="review-decide"),
+    path("locations/", places.location_list, name="locations"),
     path("locations/<int:pk>/", places.location_detail, name="location"),
     path("people/", people.people_list, name="people"),
     path("people/new/", people.person_new, name="person-new"),

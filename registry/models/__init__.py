@@ -36,6 +36,7 @@ from registry.models.location import InterlockKind, Location
 from registry.models.people import Person, ResearchGroup, Role
 from registry.models.reminder import ReminderKind, SentReminder
 from registry.models.sop import SOP, SOPAcknowledgement, SOPStatus
+from registry.models.standing import STANDING_FIRST_EMISSIONS, RoomStanding
 from registry.models.training import GENERAL_COURSES, CourseKind, TrainingRecord
 
 __all__ = [
@@ -45,5 +46,6 @@ __all__ = [
     "EMISSION_BEAM_FIELDS", "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
     "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode", "class_rank",
     "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "ReminderKind", "SentReminder", "SOP", "SOPAcknowledgement", "SOPStatus",
+    "STANDING_FIRST_EMISSIONS", "RoomStanding",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",
 ]

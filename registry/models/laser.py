@@ -215,6 +215,9 @@ class Emission(TimestampedModel):
         ordering = ["laser", "wavelength_m", "id"]
         verbose_name = _("emission")
         verbose_name_plural = _("emissions")
+        # The LSO's home counts and lists the emissions the engine could not assess: a few among thousands.
+        indexes = [models.Index(fields=["laser"], condition=~models.Q(assessment_problem=""),
+                                name="registry_emission_not_assessed")]
         constraints = [
             models.CheckConstraint(
                 condition=models.Q(wavelength_m__gte=MIN_WAVELENGTH_M, wavelength_m__lte=MAX_WAVELENGTH_M),

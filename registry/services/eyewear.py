@@ -18,6 +18,7 @@ from registry.services._common import (
     validated_save,
 )
 from registry.services._logging import service_action
+from registry.services.standings import room_standings_refresh
 
 
 class MarkingInput(TypedDict, total=False):
@@ -59,6 +60,7 @@ def eyewear_create(*, inventory_tag: str, location: Location, markings: Iterable
     eyewear = validated_save(Eyewear(inventory_tag=inventory_tag, location=location, **fields), by=by)
     for given in markings:
         validated_save(_marking(eyewear, given), by=by)
+    room_standings_refresh(locations=[location.pk])
     return eyewear
 
 
@@ -70,6 +72,7 @@ def eyewear_set_markings(*, eyewear: Eyewear, markings: Iterable[MarkingInput], 
     eyewear.markings.all().delete()
     for given in markings:
         validated_save(_marking(eyewear, given), by=by)
+    room_standings_refresh(locations=[eyewear.location_id])
     return eyewear
 
 
@@ -80,7 +83,9 @@ def eyewear_inspect(*, eyewear: Eyewear, by: Person, condition: str,
     lock_for_change(eyewear)
     eyewear.condition = condition
     eyewear.last_inspected_on = inspected_on or timezone.localdate()
-    return validated_save(eyewear, by=by)
+    validated_save(eyewear, by=by)
+    room_standings_refresh(locations=[eyewear.location_id])  # damaged eyewear protects nobody
+    return eyewear
 
 
 @service_action
@@ -100,7 +105,11 @@ def eyewear_update(*, eyewear: Eyewear, by: Person, **changes: Any) -> Eyewear:
     """Correct an item's description or where it is kept (EYEWEAR_EDITABLE_FIELDS)."""
     require_role(by, Role.LSO, action="change an eyewear record")
     lock_for_change(eyewear)
-    return save_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item", by=by)
+    room_before = eyewear.location_id
+    save_changes(eyewear, changes, editable=EYEWEAR_EDITABLE_FIELDS, what="an eyewear item", by=by)
+    if eyewear.location_id != room_before:
+        room_standings_refresh(locations=[room_before, eyewear.location_id])
+    return eyewear
 
 
 @service_action
@@ -112,4 +121,8 @@ def location_update(*, location: Location, by: Person, **changes: Any) -> Locati
     if "longest_dimension_m" in changes:
         changes["longest_dimension_m"] = quantity(changes["longest_dimension_m"], field="longest_dimension_m",
                                                   unit="m", minimum=0.0, inclusive_minimum=False)
-    return save_changes(location, changes, editable=LOCATION_EDITABLE_FIELDS, what="a location", by=by)
+    dimension_before = location.longest_dimension_m
+    save_changes(location, changes, editable=LOCATION_EDITABLE_FIELDS, what="a location", by=by)
+    if location.longest_dimension_m != dimension_before:  # the NOHDs are compared with it
+        room_standings_refresh(locations=[location.pk])
+    return location

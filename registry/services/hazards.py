@@ -26,6 +26,7 @@ from hazards.units import format_wavelength
 from registry.models import EMISSION_BEAM_FIELDS, Emission, HazardResult, Person
 from registry.services._common import validated_save
 from registry.services._logging import service_action
+from registry.services.standings import room_standings_refresh
 
 logger = logging.getLogger(__name__)
 
@@ -293,7 +294,8 @@ def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None =
     emission that cannot be assessed loses any old results and is listed with the reason, which
     is also kept in ``emission.assessment_problem`` (cleared once it assesses). ``changes`` lists
     every stored result whose required OD or NOHD moved; ``progress`` is called with the number
-    of emissions stored since its last call. Atomic: all or nothing.
+    of emissions stored since its last call. The standing of the rooms of the emissions' lasers
+    is refreshed after (services.standings). Atomic: all or nothing.
     """
     summary = RefreshSummary()
     chosen = [emission for emission in emissions
@@ -315,6 +317,7 @@ def hazard_results_refresh(*, emissions: Iterable[Emission], by: Person | None =
             summary.assessed += 1
         if progress is not None:
             progress(1)
+    room_standings_refresh(locations={emission.laser.location_id for emission in chosen})
     return summary
 
 

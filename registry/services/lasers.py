@@ -26,6 +26,7 @@ from registry.services._logging import service_action
 from registry.services.authorizations import authorization_refuse, authorization_revoke
 from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
+from registry.services.standings import room_standings_refresh
 from registry.services._common import (
     lock_for_change,
     lock_for_decision,
@@ -90,6 +91,7 @@ def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[st
     laser = validated_save(Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields), by=by)
     for values in emissions:
         emission_create(laser=laser, by=by, **values)
+    room_standings_refresh(locations=[laser.location_id])
     return laser
 
 
@@ -101,6 +103,7 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
     _check_fields(fields, LASER_EDITABLE_FIELDS, what="a laser")
     lock_for_change(laser)
     before = (laser.labelled_class, laser.effective_class)
+    room_before = laser.location_id
     for name, value in fields.items():
         setattr(laser, name, value)
     if not by.is_lso and laser.status in APPROVED_STATUSES and _lowered(before, laser):
@@ -109,6 +112,9 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
                              f"{_classes(laser.labelled_class, laser.effective_class)}; the LSO confirms a lower "
                              "class before the laser is in service again.")
     validated_save(laser, by=by)
+    if laser.location_id != room_before:
+        # Both rooms, before the results below refresh the new one again: rooms are locked in id order.
+        room_standings_refresh(locations=[room_before, laser.location_id])
     if {"labelled_class", "embedded_class"} & set(fields):
         # The class enters the assessment (its plausibility check), so the results follow it.
         hazard_results_refresh(emissions=laser.emissions.select_related("laser"), by=by)
@@ -208,7 +214,9 @@ def laser_retire(*, laser: Laser, by: Person, status: str, reason: str,
         close = authorization_revoke if authorization.status == AuthorizationStatus.APPROVED else authorization_refuse
         close(authorization=authorization, by=by, reason=why)
     laser.retired_on = retired_on or timezone.localdate()
-    return _move(laser, status, by=by, note=note)
+    _move(laser, status, by=by, note=note)
+    room_standings_refresh(locations=[laser.location_id])  # it is no longer in the register's care
+    return laser
 
 
 def emission_values(**fields: Any) -> dict[str, Any]:

@@ -8,6 +8,7 @@ from registry.models import Person, Role
 from registry.models.base import ComplianceRecord
 from registry.services._common import lock_for_change, require_role, require_text, validated_save
 from registry.services._logging import service_action
+from registry.services.standings import room_standings_refresh, standing_rooms
 
 
 @service_action
@@ -20,4 +21,6 @@ def record_retire(*, record: ComplianceRecord, by: Person, reason: str) -> Compl
     lock_for_change(record)
     record.retirement_reason = text
     record.retired_at = timezone.now()
-    return validated_save(record, by=by)
+    validated_save(record, by=by)
+    room_standings_refresh(locations=standing_rooms(record))  # a retired eyewear item protects nobody
+    return record

@@ -17,7 +17,7 @@ def home(request: PageRequest) -> HttpResponse:
     limits = selectors.register_limits()
     if person.role == Role.LSO:
         return render(request, "pages/home_lso.html", {
-            "attention": selectors.lso_attention(today=today), "limits": limits, "today": today})
+            "attention": selectors.lso_attention(today=today, limits=limits), "limits": limits, "today": today})
     if person.role == Role.RESEARCHER:
         return render(request, "pages/home_researcher.html", {
             "lasers": selectors.laser_list().filter(owner=person).exclude(status__in=RETIRED_STATUSES),
@@ -30,4 +30,6 @@ def home(request: PageRequest) -> HttpResponse:
             "standing": selectors.training_standings(people=[person], on=today)[person.pk],
             "limits": limits, "today": today})
     return render(request, "pages/home_inspector.html", {
-        "rooms": selectors.room_hazards(limits=limits, summary=True), "audits": selectors.audit_list(), "limits": limits})
+        "rooms": selectors.room_list_page(number=1, limits=limits, today=today, per_page=selectors.HOME_ROOMS),
+        "audits": selectors.audit_list(),
+        "limits": limits})

@@ -15,6 +15,7 @@ _LINKS: tuple[tuple[str, str, permissions.Policy | None, str], ...] = (
     ("Register", "register", permissions.LASERS, "list"),
     ("Register a laser", "laser-new", permissions.LASERS, "create"),
     ("Review queue", "review", permissions.LASERS, "approve"),
+    ("Rooms", "locations", permissions.LOCATIONS, "list"),
     ("People", "people", permissions.PEOPLE, "list"),
     ("Report an incident", "incident-new", permissions.INCIDENTS, "create"),
 )

@@ -1,12 +1,34 @@
-"""One room: its lasers, eyewear and adequacy matrix, entry controls, and NOHD against its size."""
+"""The rooms: the list with each room's stored standing, and one room with its lasers, eyewear and
+adequacy matrix, entry controls, and NOHD against its size."""
 from __future__ import annotations
 
 from django.http import HttpResponse
 from django.shortcuts import render
+from django.utils import timezone
 
 from registry import permissions, selectors
 from registry.models import Location
 from registry.views.access import PageRequest, page, visible_or_404
+
+# The rooms list's ?needs= and the heading it gives the page; an unknown value lists every room.
+ROOM_LIST_TITLES = {
+    "": "Rooms",
+    "eyewear": "Rooms whose eyewear is inadequate",
+    "nohd": "Rooms where a NOHD exceeds the room",
+    "audit": "Rooms due or overdue for audit",
+}
+
+
+@page(permissions.LOCATIONS, "list")
+def location_list(request: PageRequest) -> HttpResponse:
+    needs = request.GET.get("needs", "")
+    needs = needs if needs in selectors.ROOM_NEEDS else ""
+    limits = selectors.register_limits()
+    return render(request, "pages/locations.html", {
+        "rooms": selectors.room_list_page(number=request.GET.get("page"), needs=needs, limits=limits,
+                                          today=timezone.localdate()),
+        "needs": needs, "title": ROOM_LIST_TITLES[needs], "limits": limits,
+    })
 
 
 @page(permissions.LOCATIONS, "retrieve")

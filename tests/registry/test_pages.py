@@ -18,8 +18,9 @@ from django.utils.html import escape
 
 from hazards.caution import CAUTION
 from hazards.units import parse_quantity
-from registry import services
+from registry import selectors, services
 from registry.exports import HAZARD_HEADERS, IMPORT_HEADERS
+from registry.services.standings import room_standings_refresh
 from registry.models import (
     Authorization,
     AuthorizationStatus,
@@ -69,6 +70,7 @@ class PageAccessTests(TestCase):
             f"/lasers/{w.laser.pk}/emissions/{w.emission.pk}/distance.svg": (302, 200, 200, 200, 200, 404),
             "/review/": (302, 200, 403, 403, 403, 403),
             f"/locations/{w.room.pk}/": (302, 200, 200, 200, 200, 403),
+            "/locations/": (302, 200, 200, 200, 200, 403),
             "/people/": (302, 200, 200, 200, 200, 200),
             "/people/new/": (302, 200, 403, 403, 403, 403),
             f"/people/{w.user.pk}/": (302, 200, 200, 200, 404, 200),
@@ -86,7 +88,7 @@ class PageAccessTests(TestCase):
     def test_pages_carry_no_inline_script_or_style_so_a_strict_csp_needs_no_exception(self) -> None:
         w = self.world
         for path in ("/login/", "/", "/lasers/", f"/lasers/{w.laser.pk}/", "/lasers/new/", "/lasers/import/", "/review/",
-                     f"/locations/{w.room.pk}/", "/people/", f"/people/{w.user.pk}/", "/people/new/", "/incidents/new/"):
+                     f"/locations/{w.room.pk}/", "/locations/", "/people/", f"/people/{w.user.pk}/", "/people/new/", "/incidents/new/"):
             with self.subTest(path=path):
                 html = _client(w, "anonymous" if path == "/login/" else "lso").get(path).content.decode()
                 for forbidden in ("<script", "<style", " style=", " onclick=", " onsubmit=", " onload="):
@@ -137,7 +139,7 @@ class FiguresTests(TestCase):
         w = self.world
         for persona, path in (("lso", "/"), ("owner", "/"), ("user", "/"), ("inspector", "/"), ("lso", "/lasers/"),
                               ("lso", f"/lasers/{w.laser.pk}/"), ("lso", "/review/"),
-                              ("lso", f"/locations/{w.room.pk}/")):
+                              ("lso", f"/locations/{w.room.pk}/"), ("inspector", "/locations/")):
             with self.subTest(persona=persona, path=path):
                 self.assertContains(_client(w, persona).get(path), escape(CAUTION))
         csv_rows = list(csv.DictReader(io.StringIO(_client(w, "lso").get("/lasers/export.csv").content.decode())))
@@ -553,6 +555,107 @@ class IncidentTests(TestCase):
         self.assertEqual(register_state(), before)
 
 
+class HomeAttentionTests(TestCase):
+    """The LSO's home counts each kind of item, names the most urgent first and links to the full list; the
+    inspector's home shows the first rooms of the rooms list. Figures written by the test set the order only."""
+
+    world: World
+
+    @classmethod
+    def setUpTestData(cls) -> None:
+        cls.world = build_world()
+        today = timezone.localdate()
+        cls.rooms = []
+        for number in range(1, 7):
+            room = factories.LocationFactory.create(longest_dimension_m=10.0, building="Cedar Hall", room=f"C{number}")
+            laser = factories.LaserFactory.create(location=room, labelled_class="4", asset_tag=f"CDR-{number:04d}")
+            for limits in ("icnirp2013", "eu2006"):
+                factories.HazardResultFactory.create(emission=factories.EmissionFactory.create(laser=laser)
+                                                     if limits == "icnirp2013" else laser.emissions.get(),
+                                                     limits=limits, od_required=10.0 + number, nohd_m=1000.0 * number)
+            room_standings_refresh(locations=[room.pk])
+            cls.rooms.append(room)
+            pending = factories.LaserFactory.create(status="pending_review", asset_tag=f"WAIT-{number:04d}")
+            Laser.objects.filter(pk=pending.pk).update(created_at=timezone.now() - datetime.timedelta(days=10 + number))
+        factories.FindingFactory.create(severity="critical", description="Interlock bypassed.",
+                                        due_on=today + datetime.timedelta(days=3))
+        factories.FindingFactory.create(severity="observation", description="Sign faded.",
+                                        due_on=today - datetime.timedelta(days=2))
+        factories.FindingFactory.create(severity="major", description="Curtain torn.",
+                                        due_on=today - datetime.timedelta(days=1))
+        factories.TrainingRecordFactory.create(person=cls.world.owner, valid_until=today + datetime.timedelta(days=10))
+        unassessed = factories.LaserFactory.create(location=cls.world.room, asset_tag="NOFIG-0001")
+        factories.EmissionFactory.create(laser=unassessed, divergence_rad=None,
+                                         assessment_problem="full-angle divergence: needed to assess the hazard")
+        room_standings_refresh(locations=[cls.world.room.pk])
+
+    def test_the_lso_home_counts_each_kind_and_names_the_most_urgent_first(self) -> None:
+        attention = _client(self.world, "lso").get("/").context["attention"]
+        # The world's TST-0002, then the six registrations, the oldest (WAIT-0006) waiting longest.
+        self.assertEqual(attention.awaiting_review.count, 7)
+        self.assertEqual([laser.asset_tag for laser in attention.awaiting_review.first],
+                         ["WAIT-0006", "WAIT-0005", "WAIT-0004", "WAIT-0003", "WAIT-0002"])
+        # Six rooms of the test's own with nothing to protect against OD 11 to 16 and NOHDs of 1 to 6 km in
+        # 10 m; the world's room too for NOHD (its 2 W beams reach beyond 6 m), never among the first.
+        world_room = selectors.room_hazards(locations=[self.world.room])[0]
+        self.assertEqual(attention.eyewear_inadequate.count, 6 + bool(world_room.matrix.unprotected))
+        self.assertEqual([room.standing.location.room for room in attention.eyewear_inadequate.first],
+                         ["C6", "C5", "C4", "C3", "C2"])
+        self.assertEqual([room.standing.location.room for room in attention.nohd_beyond_room.first],
+                         ["C6", "C5", "C4", "C3", "C2"])
+        self.assertEqual(attention.nohd_beyond_room.count, 6 + bool(world_room.beyond_room))
+        self.assertEqual(attention.training_due.count, 1)
+        self.assertEqual([emission.laser.asset_tag for emission in attention.not_assessed.first], ["NOFIG-0001"])
+        first = attention.eyewear_inadequate.first[0]
+        self.assertEqual([(result.emission.laser.asset_tag, result.od_required) for result in first.first],
+                         [("CDR-0006", 16.0)])
+        # Overdue first, then by severity: the major one (due yesterday), the observation (two days ago), the
+        # critical one due in three days, then the world's minor finding.
+        self.assertEqual(attention.findings.count, 4)
+        self.assertEqual(attention.findings_overdue, 2)
+        self.assertEqual([finding.description for finding in attention.findings.first][:3],
+                         ["Curtain torn.", "Sign faded.", "Interlock bypassed."])
+
+    def test_each_card_links_to_its_full_list(self) -> None:
+        client = _client(self.world, "lso")
+        html = client.get("/").content.decode()
+        links = {"/review/": "TST-0002", "/lasers/?status=pending_review": "WAIT-0001",
+                 "/locations/?needs=eyewear": "Cedar Hall C1", "/locations/?needs=nohd": "Cedar Hall C1",
+                 "/locations/?needs=audit": "Cedar Hall C1", "/people/": "Rhea Tallis",
+                 "/admin/registry/authorization/?status__exact=requested": "TST-0001",
+                 "/admin/registry/finding/?status__exact=open": "TST-AUD-2",
+                 "/admin/registry/emission/?assessment_problem__isempty=0": "NOFIG-0001"}
+        for link, listed in links.items():
+            with self.subTest(link=link):
+                self.assertIn(f'href="{escape(link)}"', html)
+                # The full list holds what the home leaves out.
+                self.assertContains(client.get(link), listed)
+        self.assertNotIn("Cedar Hall C1", html.split("Rooms whose eyewear is inadequate")[1].split("</section>")[0])
+
+    def test_the_rooms_list_pages_the_rooms_most_urgent_first(self) -> None:
+        client = _client(self.world, "inspector")
+        listing = client.get("/locations/?needs=eyewear").context["rooms"]
+        self.assertEqual([row.standing.location.room for row in listing][:6], ["C6", "C5", "C4", "C3", "C2", "C1"])
+        everything = client.get("/locations/").context["rooms"]
+        self.assertEqual(everything.paginator.count, 7)
+        self.assertEqual(client.get("/locations/?needs=nohd").context["rooms"].paginator.count,
+                         6 + bool(selectors.room_hazards(locations=[self.world.room])[0].beyond_room))
+        home = client.get("/").context["rooms"]
+        self.assertEqual([row.standing for row in home], [row.standing for row in everything][:10])
+        self.assertContains(client.get("/"), 'href="/locations/"')
+
+    def test_the_rooms_list_costs_a_fixed_number_of_queries(self) -> None:
+        client = _client(self.world, "inspector")
+        # 1 session, 2 account, 3 person; 4 count, 5 the page's stored standings with their rooms, 6 those of
+        # them with class 3B/4 lasers, 7 the audits covering them.
+        with self.assertNumQueries(7):
+            self.assertEqual(client.get("/locations/").status_code, 200)
+        # 1 session, 2 account, 3 person; 4 rooms with class 3B/4 lasers, 5 the audits covering them (every
+        # room, to find those due), 6 the page's stored standings.
+        with self.assertNumQueries(6):
+            self.assertEqual(client.get("/locations/?needs=audit").status_code, 200)
+
+
 class QueryCountTests(TestCase):
     """The register and the home pages cost a fixed number of queries however many lasers the register holds."""
 
@@ -580,6 +683,8 @@ class QueryCountTests(TestCase):
             member = factories.PersonFactory.create(research_group=w.owner.research_group)
             factories.TrainingRecordFactory.create(person=member)
             factories.AuthorizationFactory.create(person=member, laser=laser)
+            # Factories skip the services, which keep each room's stored standing.
+            room_standings_refresh(locations=[room.pk])
 
     def _assert_fixed(self, persona: str, path: str, queries: int) -> None:
         client = _client(self.world, persona)
@@ -597,11 +702,12 @@ class QueryCountTests(TestCase):
 
     def test_the_lso_home(self) -> None:
         # 1 session, 2 account, 3 person; training: 4 people with general training, 5 their records;
-        # 6 open findings; rooms: 7 rooms holding lasers, 8 lasers, 9 emissions, 10 results, 11 eyewear,
-        # 12 markings; lasers awaiting review: 13 lasers, 14 emissions, 15 results; 16 requested
-        # authorizations; audits due: 17 rooms with class 3B/4 lasers, 18 audits covering them;
-        # 19 emissions that could not be assessed.
-        self._assert_fixed("lso", "/", 19)
+        # findings: 6 open and overdue counts, 7 the first open ones; rooms: the stored standings 8 with
+        # eyewear inadequate, 9 with a NOHD beyond the room, 10 the results of the first emissions they name;
+        # audits due: 11 rooms with class 3B/4 lasers, 12 audits covering them; lasers awaiting review:
+        # 13 count, 14 the first; requested authorizations: 15 count, 16 the first; emissions that could not
+        # be assessed: 17 count, 18 the first.
+        self._assert_fixed("lso", "/", 18)
 
     def test_the_researcher_home(self) -> None:
         # 1 session, 2 account, 3 person; group: 4 people, 5 their training, 6 their authorizations;
@@ -615,6 +721,7 @@ class QueryCountTests(TestCase):
         self._assert_fixed("user", "/", 16)
 
     def test_the_inspector_home(self) -> None:
-        # 1 session, 2 account, 3 person; rooms: 4 rooms, 5 lasers, 6 emissions, 7 results, 8 eyewear,
-        # 9 markings; audits: 10 audits, 11 their lasers, 12 checklists, 13 findings.
-        self._assert_fixed("inspector", "/", 13)
+        # 1 session, 2 account, 3 person; rooms: 4 count, 5 the first stored standings with their rooms,
+        # 6 those of them with class 3B/4 lasers, 7 audits covering them; audits: 8 audits, 9 their lasers,
+        # 10 checklists, 11 findings.
+        self._assert_fixed("inspector", "/", 11)

@@ -159,6 +159,10 @@ def test_an_inspector_reads_a_laser_page_and_finds_no_edit_control(open_page: An
     _shot(inspector, "laser-page-inspector")
     inspector.goto(f"{campus}/")
     _shot(inspector, "home-inspector")
+    inspector.get_by_role("link", name="Every room, page by page").click()
+    expect(inspector).to_have_url(f"{campus}/locations/")
+    expect(inspector.get_by_role("navigation", name="Pages")).to_contain_text("Page 1 of 1")
+    _shot(inspector, "rooms")
 
 
 def test_a_laser_user_sees_the_figures_and_eyewear_for_the_laser_they_are_authorized_on(
@@ -187,6 +191,12 @@ def test_the_room_page_flags_the_room_whose_goggles_are_inadequate(open_page: An
     eyewear = lso.get_by_role("region", name=re.compile("Rooms whose eyewear is inadequate"))
     expect(eyewear).to_contain_text("Kestrel Building 0.12")
     _shot(lso, "home-lso")
+    eyewear.get_by_role("link", name=re.compile(r"^All \d+ rooms?$")).click()
+    expect(lso).to_have_url(f"{campus}/locations/?needs=eyewear")
+    expect(lso.get_by_role("heading", level=1)).to_have_text("Rooms whose eyewear is inadequate")
+    expect(lso.locator("table")).to_contain_text("Kestrel Building 0.12")
+    _shot(lso, "rooms-eyewear-inadequate")
+    lso.go_back()
     room = Location.objects.get(code="kes-0-12")
     eyewear.get_by_role("link", name=re.compile("Kestrel Building 0.12")).click()
     expect(lso).to_have_url(f"{campus}/locations/{room.pk}/")
