@@ -46,6 +46,7 @@ from registry.models import (
     SOPAcknowledgement,
     SOPStatus,
     TrainingRecord,
+    effective_class,
 )
 
 
@@ -291,12 +292,21 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None,
     """
     if lasers_in_room is None:
         return room_hazards(locations=[location], limits=limits)[0].matrix
-    items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
-    return _eyewear_matrix(location, lasers_in_room, items, limits or register_limits())
+    return _eyewear_matrix(location, lasers_in_room, room_eyewear(location=location), limits or register_limits())
+
+
+def room_eyewear(*, location: Location) -> list[Eyewear]:
+    """The unretired eyewear kept in ``location``, with its markings (two queries)."""
+    return list(eyewear_list().filter(location=location, retired_at__isnull=True))
+
+
+def eyewear_bands(items: Iterable[Eyewear]) -> dict[int, list[EyewearBand]]:
+    """Each item's marked bands as the engine reads them, by item id (from the prefetched markings)."""
+    return {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
 
 
 def _eyewear_matrix(location: Location, lasers: list[Laser], items: list[Eyewear], chosen: str) -> EyewearMatrix:
-    bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
+    bands = eyewear_bands(items)
     emissions: list[Emission] = []
     not_assessed: list[Emission] = []
     unprotected: list[Emission] = []
@@ -317,18 +327,55 @@ def _eyewear_matrix(location: Location, lasers: list[Laser], items: list[Eyewear
                          not_assessed=not_assessed, unprotected=unprotected)
 
 
+@dataclass(frozen=True)
+class EyewearNeed:
+    """What an assessed emission asks of eyewear: its wavelength (the shortest, for a range), the
+    longest of a range, and its result's required OD and EN 207 requirements. A verdict reads nothing else."""
+
+    wavelength_m: float
+    wavelength_max_m: float | None
+    od_required: float
+    en207_requirements: list[dict[str, Any]]
+
+
 def eyewear_verdicts(emission: Emission, result: HazardResult, items: list[Eyewear],
                      bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
     """The engine's verdict on each eyewear item against one emission's (stored or previewed) result, by item id."""
-    if bands is None:
-        bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
     assert result.od_required is not None
-    requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
+    need = EyewearNeed(emission.wavelength_m, emission.wavelength_max_m, result.od_required, result.en207_requirements)
+    return need_verdicts(need, items, bands)
+
+
+def need_verdicts(need: EyewearNeed, items: list[Eyewear],
+                  bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
+    """The engine's verdict on each eyewear item against ``need``, by item id."""
+    if bands is None:
+        bands = eyewear_bands(items)
+    requirements = [LbRequirement.from_dict(record) for record in need.en207_requirements]
     # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
-    ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
-    return {item.pk: max((eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
+    ends = [need.wavelength_m] + ([need.wavelength_max_m] if need.wavelength_max_m else [])
+    return {item.pk: max((eyewear_adequacy(wavelength, int(need.od_required), requirements, bands[item.pk])
                           for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
             for item in items}
+
+
+def room_eyewear_needs(*, location: Location, limits: str | None = None) -> list[EyewearNeed]:
+    """The distinct needs of the emissions in the register's care in ``location`` that need eyewear
+    (a required OD above 0 under ``limits``), in one query. Emissions asking the same of eyewear
+    come once: a room of a thousand lasers of a few dozen models has a few dozen needs, and the
+    verdicts are worked out per need, not per emission."""
+    rows = HazardResult.objects.filter(
+        limits=limits or register_limits(), od_required__gt=0, emission__laser__location=location,
+    ).exclude(emission__laser__status__in=RETIRED_STATUSES).order_by().values_list(
+        "emission__wavelength_m", "emission__wavelength_max_m", "od_required", "en207_requirements").distinct()
+    return [EyewearNeed(*row) for row in rows]
+
+
+def room_laser_classes(*, location: Location) -> set[str]:
+    """The effective classes of the lasers in the register's care in ``location`` (one query)."""
+    pairs = Laser.objects.filter(location=location).exclude(status__in=RETIRED_STATUSES).order_by().values_list(
+        "labelled_class", "embedded_class").distinct()
+    return {effective_class(labelled, embedded) for labelled, embedded in pairs}
 
 
 def protects(verdicts: dict[int, Adequacy], items: list[Eyewear]) -> bool:

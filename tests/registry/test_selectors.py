@@ -14,6 +14,8 @@ from registry.selectors import (
     eyewear_inspections_due,
     laser_list,
     location_eyewear_matrix,
+    room_eyewear_needs,
+    room_laser_classes,
     signal_word,
     training_expiring,
 )
@@ -113,6 +115,37 @@ def test_an_emission_without_a_result_is_listed_as_not_assessed() -> None:
     matrix = location_eyewear_matrix(location=location, limits="icnirp2013")
     assert matrix.not_assessed == [emission]
     assert matrix.emissions == []
+
+
+def test_a_room_s_eyewear_needs_are_its_assessed_emissions_needing_eyewear_each_distinct_need_once() -> None:
+    from registry.services import emission_create, laser_retire
+
+    location, q_switched = _q_switched_room()
+    result = q_switched.hazard_results.get(limits="icnirp2013")
+    # A second laser of the same model asks the same of eyewear; a 405 nm one asks something else.
+    for wavelength in ("1064 nm", "405 nm"):
+        laser = factories.LaserFactory.create(labelled_class="4", location=location)
+        emission_create(laser=laser, by=None, wavelength_m=wavelength, temporal_mode="q_switched",
+                        average_power_W="1 W", pulse_energy_J="100 mJ", pulse_duration_s="10 ns", prf_Hz="10 Hz",
+                        beam_diameter_m="5 mm", divergence_rad="1 mrad", diameter_definition="1/e")
+    # Neither a laser that has left the register's care, nor one without figures, nor one that needs no eyewear.
+    gone = factories.LaserFactory.create(labelled_class="4", location=location)
+    emission_create(laser=gone, by=None, wavelength_m="532 nm", temporal_mode="cw", average_power_W="2 W",
+                    beam_diameter_m="2 mm", divergence_rad="1 mrad")
+    laser_retire(laser=gone, by=factories.PersonFactory.create(role="lso"), status="disposed", reason="Scrapped.")
+    factories.EmissionFactory.create(laser=factories.LaserFactory.create(labelled_class="1", location=location))
+    dim = factories.LaserFactory.create(labelled_class="1", embedded_class="3R", location=location)
+    emission_create(laser=dim, by=None, wavelength_m="650 nm", temporal_mode="cw", average_power_W="1 uW",
+                    beam_diameter_m="2 mm", divergence_rad="1 mrad")
+
+    with CaptureQueriesContext(connection) as queries:
+        needs = room_eyewear_needs(location=location, limits="icnirp2013")
+    assert len(queries) == 1
+    assert sorted(need.wavelength_m for need in needs) == pytest.approx([405e-9, 1064e-9])
+    needing = next(need for need in needs if need.wavelength_m == pytest.approx(1064e-9))
+    assert (needing.od_required, needing.en207_requirements) == (result.od_required, result.en207_requirements)
+    # The classes of the lasers in its care: the embedded class where given; the disposed laser is gone.
+    assert room_laser_classes(location=location) == {"4", "1", "3R"}
 
 
 @pytest.mark.parametrize(("classes", "word"), [
