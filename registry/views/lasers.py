@@ -32,10 +32,11 @@ def _chosen_limits(request: HttpRequest) -> str:
     return asked if asked in LIMIT_SETS else selectors.register_limits()
 
 
-def _filtered(request: PageRequest, limits: str) -> tuple[LaserFilter, Any]:
+def _filtered(request: PageRequest, limits: str, *, page_rows: bool = False) -> tuple[LaserFilter, Any]:
     """The register filtered with the API's own filter set, within what the person may see."""
     ordering = request.GET.get("ordering", "asset_tag")
-    lasers = permissions.LASERS.visible(request.person, selectors.laser_register(limits=limits, ordering=ordering))
+    lasers = permissions.LASERS.visible(request.person, selectors.laser_register(limits=limits, ordering=ordering,
+                                                                                 page_rows=page_rows))
     filters = LaserFilter(request.GET, queryset=lasers)
     chosen = filters.qs if filters.is_valid() else lasers.none()
     return filters, chosen.order_by(*selectors.register_ordering(ordering))
@@ -44,7 +45,7 @@ def _filtered(request: PageRequest, limits: str) -> tuple[LaserFilter, Any]:
 @page(permissions.LASERS, "list")
 def register(request: PageRequest) -> HttpResponse:
     limits = _chosen_limits(request)
-    filters, lasers = _filtered(request, limits)
+    filters, lasers = _filtered(request, limits, page_rows=True)
     listing = KeysFirstPaginator(lasers, REGISTER_PAGE_SIZE).get_page(request.GET.get("page"))
     query = request.GET.copy()
     query.pop("page", None)
