@@ -14,7 +14,22 @@ from dataclasses import dataclass
 from typing import Any
 
 from django.conf import settings
-from django.db.models import Case, Exists, F, FloatField, Max, OuterRef, Prefetch, Q, QuerySet, Value, When
+from django.db.models import (
+    Case,
+    CharField,
+    Exists,
+    F,
+    FloatField,
+    Func,
+    Max,
+    OuterRef,
+    Prefetch,
+    Q,
+    QuerySet,
+    Value,
+    When,
+)
+from django.db.models.functions import Length, Substr
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -783,28 +798,31 @@ def register_ordering(key: str) -> list[Any]:
 
 def next_asset_tag() -> str:
     """The asset tag the register proposes for a new laser: the newest tag's prefix, numbered
-    one past the highest number in use with that prefix ("FV-0028" -> "FV-0029")."""
-    return _next_code(Laser.objects.order_by("-created_at").values_list("asset_tag", flat=True)[:1],
-                      Laser.objects.values_list("asset_tag", flat=True), default="LSR-0001")
+    one past the highest number in use with that prefix ("FV-0028" -> "FV-0029"). Two queries."""
+    return _next_code(Laser.objects.all(), "asset_tag", default="LSR-0001")
 
 
 def next_incident_reference() -> str:
-    return _next_code(Incident.objects.order_by("-created_at").values_list("reference", flat=True)[:1],
-                      Incident.objects.values_list("reference", flat=True), default="INC-0001")
+    return _next_code(Incident.objects.all(), "reference", default="INC-0001")
 
 
-_CODE = re.compile(r"^(.*?)(\d+)$")
+# A code is a prefix (not ending in a digit) and a number.
+_CODE = re.compile(r"^(.*?)([0-9]+)$")
 
 
-def _next_code(newest: Iterable[str], existing: Iterable[str], *, default: str) -> str:
-    latest = next(iter(newest), None)
-    match = _CODE.match(latest or "")
+def _next_code(records: QuerySet[Any], field: str, *, default: str) -> str:
+    newest = records.order_by("-created_at").values_list(field, flat=True).first()
+    match = _CODE.match(newest or "")
     if match is None:
         return default
     prefix, digits = match.groups()
-    numbers = [int(found.group(2)) for code in existing
-               if (found := _CODE.match(code)) is not None and found.group(1) == prefix]
-    return f"{prefix}{max(numbers) + 1:0{len(digits)}d}"
+    # The highest number in use after the prefix, found by the database rather than by reading
+    # every code (10,000 of them for a grown register): without leading zeros, the longer
+    # number is the larger, and numbers of one length order as text.
+    number = Func(Substr(field, len(prefix) + 1), Value("0"), function="LTRIM", output_field=CharField())
+    highest = records.filter(**{f"{field}__regex": rf"^{re.escape(prefix)}[0-9]+$"}).annotate(number=number).order_by(
+        Length("number").desc(), F("number").desc()).values_list("number", flat=True).first()
+    return f"{prefix}{int(highest or 0) + 1:0{len(digits)}d}"
 
 
 @dataclass(frozen=True)

@@ -247,3 +247,33 @@ def test_an_eyewear_inspection_is_due_months_after_the_last_even_from_a_month_en
     assert retired not in [entry.eyewear for entry in due] and recent not in [entry.eyewear for entry in due]
     assert [entry.eyewear for entry in eyewear_inspections_due(today=datetime.date(2031, 3, 2), within_days=0)] == [
         never, month_end, recent]
+
+
+@pytest.mark.parametrize(("tags", "proposed"), [
+    (["FV-0003", "FV-0028"], "FV-0029"),
+    # Compared as numbers, whatever their width; the newest tag's width is kept.
+    (["FV-100", "FV-0099"], "FV-0101"),
+    (["FV-0024-G09970", "FV-0025-G00012", "FV-0025-G09971"], "FV-0025-G09972"),
+    # The prefix is taken as it is written: neither a pattern nor in another case.
+    (["AXB-9", "fv-0100", "A.B-7"], "A.B-8"),
+    (["FV-0100", "fv-0002"], "fv-0003"),
+    (["Z-000"], "Z-001"),
+])
+def test_the_proposed_asset_tag_follows_the_newest_tag_s_prefix_past_its_highest_number(
+        tags: list[str], proposed: str) -> None:
+    from registry.selectors import next_asset_tag
+
+    for tag in tags:
+        factories.LaserFactory.create(asset_tag=tag)
+    with CaptureQueriesContext(connection) as queries:
+        assert next_asset_tag() == proposed
+    # The newest tag, then the highest number after its prefix.
+    assert len(queries) == 2
+
+
+def test_a_register_whose_newest_tag_has_no_number_proposes_the_default_tag() -> None:
+    from registry.selectors import next_asset_tag
+
+    factories.LaserFactory.create(asset_tag="LSR-0007")
+    factories.LaserFactory.create(asset_tag="HELIUM NEON")
+    assert next_asset_tag() == "LSR-0001"
