@@ -50,5 +50,14 @@ def test_a_distinct_queryset_filtered_over_many_rows_pages_like_an_offset(regist
         assert list(KeysFirstPaginator(owners, 1).page(number)) == list(Paginator(owners, 1).page(number))
 
 
+def test_an_order_with_ties_is_completed_by_the_key_so_that_each_row_is_on_one_page(register: None) -> None:
+    lasers = selectors.laser_list().order_by("-status")
+    pages = [[laser.pk for laser in KeysFirstPaginator(lasers, 10).page(number)] for number in (1, 2, 3)]
+    assert [pk for page in pages for pk in page] == list(lasers.order_by("-status", "pk").values_list("pk", flat=True))
+    # The model's own order (Laser.Meta: asset_tag) is kept when none is asked for.
+    assert [laser.pk for laser in KeysFirstPaginator(selectors.laser_list(), 50).page(1)] == list(
+        selectors.laser_list().order_by("asset_tag").values_list("pk", flat=True))
+
+
 def test_a_list_is_sliced() -> None:
     assert list(KeysFirstPaginator(list(range(25)), 10).page(3)) == [20, 21, 22, 23, 24]
