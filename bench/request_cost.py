@@ -7,8 +7,10 @@ as the load test's demo accounts (a session for the pages, a token for the API).
 is requested ``--warm`` times first (the first request of a process loads templates, limit
 sets and URL patterns), then ``--repeat`` times. It prints medians of the CPU time of this
 process (``time.process_time``: what the request costs Django, whatever else the machine is
-doing), of the wall time, and of the time spent waiting for the database's answers (PostgreSQL's
-own work, on the same cores in the load test), and the number of queries. ``--profile ROUTE``
+doing), of the wall time, and of the time spent waiting for the database's answers, the mean
+CPU time of the PostgreSQL process serving the connection (read from /proc when the server is
+local: its work runs on the same cores in the load test), and the number of queries. The
+connection is kept between requests, as in production. ``--profile ROUTE``
 prints that route's cProfile instead (the 40 heaviest functions by ``--sort``).
 
 Run from the project root:
@@ -89,8 +91,24 @@ class Cost:
     cpu_ms: float
     wall_ms: float
     database_ms: float
+    database_cpu_ms: float | None
     queries: int
     status: int
+
+
+def _database_cpu_ns() -> int | None:
+    """CPU time so far of the PostgreSQL process serving this connection (Linux, local server), or None."""
+    from django.db import connection
+
+    if connection.vendor != "postgresql":
+        return None
+    with connection.cursor() as cursor:
+        cursor.execute("SELECT pg_backend_pid()")
+        pid = cursor.fetchone()[0]
+    try:
+        return int(Path(f"/proc/{pid}/schedstat").read_text().split()[0])
+    except OSError:
+        return None
 
 
 def _measure(call: Callable[[], object], *, warm: int, repeat: int) -> Cost:
@@ -101,6 +119,7 @@ def _measure(call: Callable[[], object], *, warm: int, repeat: int) -> Cost:
         call()
     cpu, wall, database, queries = [], [], [], []
     status = 0
+    database_cpu_before = _database_cpu_ns()
     for _ in range(repeat):
         waits: list[float] = []
 
@@ -119,7 +138,11 @@ def _measure(call: Callable[[], object], *, warm: int, repeat: int) -> Cost:
         database.append(sum(waits) * 1000)
         queries.append(len(waits))
         status = getattr(answer, "status_code", 0)
-    return Cost(statistics.median(cpu), statistics.median(wall), statistics.median(database), queries[-1], status)
+    database_cpu_after = _database_cpu_ns()
+    database_cpu = (None if database_cpu_before is None or database_cpu_after is None
+                    else (database_cpu_after - database_cpu_before) / repeat / 1e6)
+    return Cost(statistics.median(cpu), statistics.median(wall), statistics.median(database), database_cpu,
+                queries[-1], status)
 
 
 def main() -> None:
@@ -141,11 +164,12 @@ def main() -> None:
         profile.runcall(calls[arguments.profile])
         pstats.Stats(profile).sort_stats(arguments.sort).print_stats(40)
         return
-    print(f"{'route':<24} {'CPU ms':>8} {'wall ms':>8} {'query ms':>9} {'queries':>8}  status")
+    print(f"{'route':<24} {'CPU ms':>8} {'wall ms':>8} {'query ms':>9} {'PG CPU ms':>10} {'queries':>8}  status")
     for route in arguments.route or ROUTES:
         cost = _measure(calls[route], warm=arguments.warm, repeat=arguments.repeat)
-        print(f"{route:<24} {cost.cpu_ms:>8.1f} {cost.wall_ms:>8.1f} {cost.database_ms:>9.1f} {cost.queries:>8}  "
-              f"{cost.status}", flush=True)
+        database_cpu = "-" if cost.database_cpu_ms is None else f"{cost.database_cpu_ms:.1f}"
+        print(f"{route:<24} {cost.cpu_ms:>8.1f} {cost.wall_ms:>8.1f} {cost.database_ms:>9.1f} {database_cpu:>10} "
+              f"{cost.queries:>8}  {cost.status}", flush=True)
 
 
 if __name__ == "__main__":
