@@ -13,6 +13,9 @@ from typing import Any, TypeVar
 
 from django import forms
 from django.core.exceptions import ValidationError
+from django.db import router
+from django.db.models import CheckConstraint
+from django.forms.models import InlineForeignKeyField
 from django.utils.functional import Promise
 from django.utils.text import capfirst
 from django.utils.translation import gettext_lazy as _
@@ -46,7 +49,8 @@ class RegisterForm(forms.ModelForm):
 
     - Every named constraint is checked. Django checks only those whose fields are all on the
       form, so one involving a read-only field (a status) was left to the database, whose
-      refusal is a 500; those fields have their values on the instance, so they are checked.
+      refusal is a 500; those fields have their values on the instance, so they are checked
+      here. A check constraint Django has already run is not run again: each is a query.
     - A read-only record (registry.services.refuse_if_read_only: retired, or a disposed or
       transferred laser with its emissions, SOPs and authorizations) takes no change, and
       nothing new is added to a retired laser.
@@ -55,12 +59,21 @@ class RegisterForm(forms.ModelForm):
     def _post_clean(self) -> None:
         super()._post_clean()
         reported = {message for messages in self.errors.values() for message in messages}
-        try:
-            self.instance.validate_constraints(exclude={name for name in self.errors if name in self.fields})
-        except ValidationError as error:
-            for message in error.messages:
-                if message not in reported:
-                    self.add_error(None, message)
+        in_error = {name for name in self.errors if name in self.fields}
+        # The fields Django's own pass (ModelForm._post_clean) left out of the instance's check.
+        left_out = self._get_validation_exclusions() | {
+            name for name, field in self.fields.items() if isinstance(field, InlineForeignKeyField)}
+        using = router.db_for_write(type(self.instance), instance=self.instance)
+        for model, constraints in self.instance.get_constraints():
+            for constraint in constraints:
+                if isinstance(constraint, CheckConstraint) and not constraint.condition.referenced_base_fields & left_out:
+                    continue
+                try:
+                    constraint.validate(model, self.instance, exclude=in_error, using=using)
+                except ValidationError as error:
+                    for message in error.messages:
+                        if message not in reported:
+                            self.add_error(None, message)
         try:
             refuse_if_read_only(self.instance)
         except ValidationError as error:

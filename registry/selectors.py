@@ -15,7 +15,24 @@ from typing import Any, Generic, TypeVar
 
 from django.conf import settings
 from django.core.paginator import Page, Paginator
-from django.db.models import BooleanField, Case, Count, Exists, F, FloatField, Max, OuterRef, Prefetch, Q, QuerySet, Value, When
+from django.db.models import (
+    BooleanField,
+    Case,
+    CharField,
+    Count,
+    Exists,
+    F,
+    FloatField,
+    Func,
+    Max,
+    OuterRef,
+    Prefetch,
+    Q,
+    QuerySet,
+    Value,
+    When,
+)
+from django.db.models.functions import Length, Substr
 from django.utils import timezone
 
 from hazards.classes import LASER_CLASSES
@@ -48,6 +65,7 @@ from registry.models import (
     SOPAcknowledgement,
     SOPStatus,
     TrainingRecord,
+    effective_class,
 )
 
 
@@ -62,8 +80,14 @@ def laser_list(*, with_working: bool = False) -> QuerySet[Laser]:
     each, shown only by the working endpoint and the laser page, which ask ``with_working``).
     """
     results = HazardResult.objects.all() if with_working else HazardResult.objects.defer("working")
-    return Laser.objects.select_related("owner__user", "owner__research_group", "location").prefetch_related(
-        Prefetch("emissions", to_attr="current_emissions"),
+    return _with_emissions(Laser.objects.select_related("owner__user", "owner__research_group", "location"),
+                           Emission.objects.all(), results)
+
+
+def _with_emissions(lasers: QuerySet[Laser], emissions: QuerySet[Emission],
+                    results: QuerySet[HazardResult]) -> QuerySet[Laser]:
+    return lasers.prefetch_related(
+        Prefetch("emissions", queryset=emissions, to_attr="current_emissions"),
         Prefetch("current_emissions__hazard_results", queryset=results, to_attr="current_results"),
     )
 
@@ -293,12 +317,21 @@ def location_eyewear_matrix(*, location: Location, limits: str | None = None,
     """
     if lasers_in_room is None:
         return room_hazards(locations=[location], limits=limits)[0].matrix
-    items = list(eyewear_list().filter(location=location, retired_at__isnull=True))
-    return _eyewear_matrix(location, lasers_in_room, items, limits or register_limits())
+    return _eyewear_matrix(location, lasers_in_room, room_eyewear(location=location), limits or register_limits())
+
+
+def room_eyewear(*, location: Location) -> list[Eyewear]:
+    """The unretired eyewear kept in ``location``, with its markings (two queries)."""
+    return list(eyewear_list().filter(location=location, retired_at__isnull=True))
+
+
+def eyewear_bands(items: Iterable[Eyewear]) -> dict[int, list[EyewearBand]]:
+    """Each item's marked bands as the engine reads them, by item id (from the prefetched markings)."""
+    return {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
 
 
 def _eyewear_matrix(location: Location, lasers: list[Laser], items: list[Eyewear], chosen: str) -> EyewearMatrix:
-    bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
+    bands = eyewear_bands(items)
     emissions: list[Emission] = []
     not_assessed: list[Emission] = []
     unprotected: list[Emission] = []
@@ -319,18 +352,55 @@ def _eyewear_matrix(location: Location, lasers: list[Laser], items: list[Eyewear
                          not_assessed=not_assessed, unprotected=unprotected)
 
 
+@dataclass(frozen=True)
+class EyewearNeed:
+    """What an assessed emission asks of eyewear: its wavelength (the shortest, for a range), the
+    longest of a range, and its result's required OD and EN 207 requirements. A verdict reads nothing else."""
+
+    wavelength_m: float
+    wavelength_max_m: float | None
+    od_required: float
+    en207_requirements: list[dict[str, Any]]
+
+
 def eyewear_verdicts(emission: Emission, result: HazardResult, items: list[Eyewear],
                      bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
     """The engine's verdict on each eyewear item against one emission's (stored or previewed) result, by item id."""
-    if bands is None:
-        bands = {item.pk: [eyewear_band(marking) for marking in item.markings.all()] for item in items}
     assert result.od_required is not None
-    requirements = [LbRequirement.from_dict(record) for record in result.en207_requirements]
+    need = EyewearNeed(emission.wavelength_m, emission.wavelength_max_m, result.od_required, result.en207_requirements)
+    return need_verdicts(need, items, bands)
+
+
+def need_verdicts(need: EyewearNeed, items: list[Eyewear],
+                  bands: dict[int, list[EyewearBand]] | None = None) -> dict[int, Adequacy]:
+    """The engine's verdict on each eyewear item against ``need``, by item id."""
+    if bands is None:
+        bands = eyewear_bands(items)
+    requirements = [LbRequirement.from_dict(record) for record in need.en207_requirements]
     # A tunable emission needs eyewear over its whole range: the worse of its two ends counts.
-    ends = [emission.wavelength_m] + ([emission.wavelength_max_m] if emission.wavelength_max_m else [])
-    return {item.pk: max((eyewear_adequacy(wavelength, int(result.od_required), requirements, bands[item.pk])
+    ends = [need.wavelength_m] + ([need.wavelength_max_m] if need.wavelength_max_m else [])
+    return {item.pk: max((eyewear_adequacy(wavelength, int(need.od_required), requirements, bands[item.pk])
                           for wavelength in ends), key=lambda verdict: _VERDICT_SEVERITY[verdict.status])
             for item in items}
+
+
+def room_eyewear_needs(*, location: Location, limits: str | None = None) -> list[EyewearNeed]:
+    """The distinct needs of the emissions in the register's care in ``location`` that need eyewear
+    (a required OD above 0 under ``limits``), in one query. Emissions asking the same of eyewear
+    come once: a room of a thousand lasers of a few dozen models has a few dozen needs, and the
+    verdicts are worked out per need, not per emission."""
+    rows = HazardResult.objects.filter(
+        limits=limits or register_limits(), od_required__gt=0, emission__laser__location=location,
+    ).exclude(emission__laser__status__in=RETIRED_STATUSES).order_by().values_list(
+        "emission__wavelength_m", "emission__wavelength_max_m", "od_required", "en207_requirements").distinct()
+    return [EyewearNeed(*row) for row in rows]
+
+
+def room_laser_classes(*, location: Location) -> set[str]:
+    """The effective classes of the lasers in the register's care in ``location`` (one query)."""
+    pairs = Laser.objects.filter(location=location).exclude(status__in=RETIRED_STATUSES).order_by().values_list(
+        "labelled_class", "embedded_class").distinct()
+    return {effective_class(labelled, embedded) for labelled, embedded in pairs}
 
 
 def protects(verdicts: dict[int, Adequacy], items: list[Eyewear]) -> bool:
@@ -808,14 +878,33 @@ REGISTER_ORDERINGS = {
 _UNBOUNDED_SORT_M = 1e30
 
 
-def laser_register(*, limits: str | None = None, ordering: str = "asset_tag") -> QuerySet[Laser]:
+# What a row of the register page shows (templates/pages/register.html): any other field read on
+# a row loaded with ``page_rows`` costs a query per row.
+_PAGE_ROW_LASER = ("asset_tag", "manufacturer", "model_name", "labelled_class", "embedded_class", "status", "owner",
+                   "location", "owner__user__username", "owner__user__first_name", "owner__user__last_name",
+                   "location__building", "location__room")
+_PAGE_ROW_EMISSION = ("laser", "wavelength_m", "wavelength_max_m", "temporal_mode")
+_PAGE_ROW_RESULT = ("emission", "limits", "nohd_m", "nohd_unbounded", "od_required")
+
+
+def laser_register(*, limits: str | None = None, ordering: str = "asset_tag", page_rows: bool = False) -> QuerySet[Laser]:
     """laser_list() for the register sorted by ``ordering`` (a register_ordering key). Sorting by
     NOHD or OD annotates ``nohd_key`` and ``od_key``: the largest NOHD and required OD of each
     laser's emissions under ``limits`` (null when none was computed). Other orders go without:
     that annotation joins every laser's emissions and results and groups them, so that a page
     of 50 and its count cost a pass over the whole register (a third of a second at 10,000
-    lasers) instead of an index scan."""
-    lasers = laser_list()
+    lasers) instead of an index scan.
+
+    With ``page_rows`` the lasers (with their owner's account and room), emissions and results
+    carry only the columns a row of the register page shows: building the full rows, with
+    their timestamps, free text and the owner's group, was half of the page's CPU time.
+    """
+    if page_rows:
+        lasers = _with_emissions(Laser.objects.select_related("owner__user", "location").only(*_PAGE_ROW_LASER),
+                                 Emission.objects.only(*_PAGE_ROW_EMISSION),
+                                 HazardResult.objects.only(*_PAGE_ROW_RESULT))
+    else:
+        lasers = laser_list()
     if REGISTER_ORDERINGS.get(ordering.lstrip("-")) not in ("nohd_key", "od_key"):
         return lasers
     chosen = limits or register_limits()
@@ -838,28 +927,31 @@ def register_ordering(key: str) -> list[Any]:
 
 def next_asset_tag() -> str:
     """The asset tag the register proposes for a new laser: the newest tag's prefix, numbered
-    one past the highest number in use with that prefix ("FV-0028" -> "FV-0029")."""
-    return _next_code(Laser.objects.order_by("-created_at").values_list("asset_tag", flat=True)[:1],
-                      Laser.objects.values_list("asset_tag", flat=True), default="LSR-0001")
+    one past the highest number in use with that prefix ("FV-0028" -> "FV-0029"). Two queries."""
+    return _next_code(Laser.objects.all(), "asset_tag", default="LSR-0001")
 
 
 def next_incident_reference() -> str:
-    return _next_code(Incident.objects.order_by("-created_at").values_list("reference", flat=True)[:1],
-                      Incident.objects.values_list("reference", flat=True), default="INC-0001")
+    return _next_code(Incident.objects.all(), "reference", default="INC-0001")
 
 
-_CODE = re.compile(r"^(.*?)(\d+)$")
+# A code is a prefix (not ending in a digit) and a number.
+_CODE = re.compile(r"^(.*?)([0-9]+)$")
 
 
-def _next_code(newest: Iterable[str], existing: Iterable[str], *, default: str) -> str:
-    latest = next(iter(newest), None)
-    match = _CODE.match(latest or "")
+def _next_code(records: QuerySet[Any], field: str, *, default: str) -> str:
+    newest = records.order_by("-created_at").values_list(field, flat=True).first()
+    match = _CODE.match(newest or "")
     if match is None:
         return default
     prefix, digits = match.groups()
-    numbers = [int(found.group(2)) for code in existing
-               if (found := _CODE.match(code)) is not None and found.group(1) == prefix]
-    return f"{prefix}{max(numbers) + 1:0{len(digits)}d}"
+    # The highest number in use after the prefix, found by the database rather than by reading
+    # every code (10,000 of them for a grown register): without leading zeros, the longer
+    # number is the larger, and numbers of one length order as text.
+    number = Func(Substr(field, len(prefix) + 1), Value("0"), function="LTRIM", output_field=CharField())
+    highest = records.filter(**{f"{field}__regex": rf"^{re.escape(prefix)}[0-9]+$"}).annotate(number=number).order_by(
+        Length("number").desc(), F("number").desc()).values_list("number", flat=True).first()
+    return f"{prefix}{int(highest or 0) + 1:0{len(digits)}d}"
 
 
 @dataclass(frozen=True)

@@ -127,7 +127,12 @@ TEMPLATES = [
 DATABASES = {
     "default": dj_database_url.config(
         default=f"sqlite:///{BASE_DIR / 'db.sqlite3'}",
-        conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 0, minimum=0),
+        # Production keeps each worker's connection for the next requests: a new one per request
+        # cost PostgreSQL 5 to 10 ms of CPU (a backend started, its caches cold), as much as a page's
+        # queries. A kept connection is checked before a request uses it. Development's server runs
+        # each request in a new thread, where kept connections would only pile up.
+        conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 600 if PRODUCTION else 0, minimum=0),
+        conn_health_checks=True,
     ),
 }
 if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":

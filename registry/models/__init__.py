@@ -31,6 +31,7 @@ from registry.models.laser import (
     LaserType,
     TemporalMode,
     class_rank,
+    effective_class,
 )
 from registry.models.location import InterlockKind, Location
 from registry.models.people import Person, ResearchGroup, Role
@@ -44,7 +45,7 @@ __all__ = [
     "FindingStatus", "FREE_TEXT_MAX_LENGTH", "OPEN_AUTHORIZATION_STATUSES", "Authorization", "AuthorizationStatus", "RecordRetainedError",
     "Eyewear", "EyewearCondition", "EyewearMarking", "HazardResult", "Incident", "IncidentKind", "IncidentStatus",
     "EMISSION_BEAM_FIELDS", "HAZARDOUS_CLASSES", "MAX_WAVELENGTH_M", "MIN_WAVELENGTH_M", "PULSED_MODES", "RETIRED_STATUSES",
-    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode", "class_rank",
+    "DiameterDefinition", "Emission", "Laser", "LaserClass", "LaserStatus", "LaserType", "TemporalMode", "class_rank", "effective_class",
     "InterlockKind", "Location", "Person", "ResearchGroup", "Role", "ReminderKind", "SentReminder", "SOP", "SOPAcknowledgement", "SOPStatus",
     "STANDING_FIRST_EMISSIONS", "RoomStanding",
     "GENERAL_COURSES", "CourseKind", "TrainingRecord",

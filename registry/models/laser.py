@@ -37,6 +37,11 @@ def class_rank(label: str) -> int:
     return LaserClass.values.index(label) if label else -1
 
 
+def effective_class(labelled_class: str, embedded_class: str) -> str:
+    """The class that governs the hazard of the beam itself: the embedded class when given."""
+    return embedded_class or labelled_class
+
+
 class LaserStatus(models.TextChoices):
     PENDING_REVIEW = "pending_review", _("pending review")
     RETURNED = "returned", _("returned to owner for changes")
@@ -134,7 +139,7 @@ class Laser(RetainedModel):
     @property
     def effective_class(self) -> str:
         """The class that governs the hazard of the beam itself (the embedded class when given)."""
-        return self.embedded_class or self.labelled_class
+        return effective_class(self.labelled_class, self.embedded_class)
 
     @property
     def is_hazardous(self) -> bool:

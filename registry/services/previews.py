@@ -2,7 +2,8 @@
 
 Nothing here writes. The new laser and its emissions are unsaved instances; the engine runs
 through registry.services.hazards (as it would on saving), and the room's eyewear is judged
-with the same check as the room's adequacy matrix (registry.selectors.eyewear_verdicts).
+with the same check as the room's adequacy matrix (registry.selectors.eyewear_verdicts and
+need_verdicts).
 """
 from __future__ import annotations
 
@@ -12,7 +13,7 @@ from django.core.exceptions import ValidationError
 from hazards.eyewear import Adequacy
 
 from registry import selectors
-from registry.models import Emission, Eyewear, HazardResult, Laser
+from registry.models import Emission, Eyewear, HazardResult, Laser, Location
 from registry.services.hazards import emission_preview
 
 
@@ -33,7 +34,7 @@ class RegistrationPreview:
     laser: Laser
     limits: str
     emissions: list[EmissionPreview]
-    room: selectors.RoomHazards
+    location: Location
     eyewear: list[Eyewear]
     # Items adequate for every emission in the room that needs eyewear today, but not for a new one.
     no_longer_adequate: list[Eyewear]
@@ -42,11 +43,17 @@ class RegistrationPreview:
 
 
 def laser_registration_preview(*, laser: Laser, emissions: list[Emission], limits: str | None = None) -> RegistrationPreview:
-    """Assess ``emissions`` (unsaved, each with ``laser`` set) and set them against ``laser.location``."""
+    """Assess ``emissions`` (unsaved, each with ``laser`` set) and set them against ``laser.location``.
+
+    The room is read as what its lasers ask of eyewear (``selectors.room_eyewear_needs``, each
+    distinct need once) and their classes, not as its whole eyewear matrix: four queries and a
+    few dozen verdicts however many lasers the room holds.
+    """
     chosen = limits or selectors.register_limits()
-    assert laser.location is not None
-    room = selectors.room_hazards(locations=[laser.location], limits=chosen)[0]
-    items = room.matrix.eyewear
+    location = laser.location
+    assert location is not None
+    items = selectors.room_eyewear(location=location)
+    bands = selectors.eyewear_bands(items)
     previews: list[EmissionPreview] = []
     for emission in emissions:
         try:
@@ -54,19 +61,18 @@ def laser_registration_preview(*, laser: Laser, emissions: list[Emission], limit
         except ValidationError as error:
             previews.append(EmissionPreview(emission, None, "; ".join(error.messages), {}, False, False))
             continue
-        verdicts = selectors.eyewear_verdicts(emission, result, items)
+        verdicts = selectors.eyewear_verdicts(emission, result, items, bands)
         protected = result.od_required == 0 or selectors.protects(verdicts, items)
         previews.append(EmissionPreview(emission, result, "", verdicts, protected,
-                                        selectors.nohd_exceeds(result, laser.location)))
-    needing = [emission for emission in room.matrix.emissions
-               if (result := selectors.result_under(emission, chosen)) is not None and (result.od_required or 0) > 0]
-    adequate_today = [item for item in items
-                      if all(room.matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in needing)]
+                                        selectors.nohd_exceeds(result, location)))
+    today = [selectors.need_verdicts(need, items, bands)
+             for need in selectors.room_eyewear_needs(location=location, limits=chosen)]
+    adequate_today = [item for item in items if all(verdicts[item.pk].status == "adequate" for verdicts in today)]
     no_longer = [item for item in adequate_today
                  if any(preview.result is not None and (preview.result.od_required or 0) > 0
                         and preview.verdicts[item.pk].status != "adequate" for preview in previews)]
-    classes_now = [existing.effective_class for existing in room.lasers]
+    classes_now = selectors.room_laser_classes(location=location)
     return RegistrationPreview(
-        laser=laser, limits=chosen, emissions=previews, room=room, eyewear=items, no_longer_adequate=no_longer,
+        laser=laser, limits=chosen, emissions=previews, location=location, eyewear=items, no_longer_adequate=no_longer,
         signal_word_now=selectors.signal_word(classes_now),
         signal_word_after=selectors.signal_word([*classes_now, laser.effective_class]))

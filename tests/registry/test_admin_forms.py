@@ -366,3 +366,29 @@ def test_the_emission_page_shows_its_results_with_the_caution(lso_client: Client
     detail = lso_client.get(reverse("admin:registry_hazardresult_change", args=[result.pk])).content.decode()
     # ICNIRP 2013 skin limit 400-1400 nm, 10 s - 30 ks: E = 2000 W/m^2 C_A, shown with a prefix, no exponent.
     assert "20 kJ/m\u00b2 = 2 kW/m\u00b2 over 10 s" in detail
+
+
+@pytest.mark.django_db
+def test_each_check_constraint_of_a_form_is_run_once_and_a_broken_one_is_reported_once() -> None:
+    from django.db import connection
+    from django.db.models import CheckConstraint
+    from django.test.utils import CaptureQueriesContext
+
+    from registry.forms import EmissionEntryForm
+
+    checks = [constraint for constraint in Emission._meta.constraints if isinstance(constraint, CheckConstraint)]
+    typed = {"wavelength_m": "532 nm", "temporal_mode": "cw", "average_power_W": "5 mW", "beam_diameter_m": "2 mm",
+             "diameter_definition": "1/e2", "divergence_rad": "1 mrad"}
+    form = EmissionEntryForm(typed)
+    with CaptureQueriesContext(connection) as queries:
+        assert form.is_valid(), form.errors
+    # Every field the constraints read is on the form: Django's own validation runs each check
+    # (one query each, inside a savepoint here since the test runs in a transaction) and
+    # RegisterForm runs none of them again.
+    assert len([query for query in queries if '"_check"' in query["sql"]]) == len(checks)
+    # A continuous-wave emission without a power breaks registry_emission_cw_has_power (and the
+    # power-or-energy rule); each refusal is shown once.
+    form = EmissionEntryForm({**typed, "average_power_W": ""})
+    assert not form.is_valid()
+    errors = list(form.non_field_errors())
+    assert len(errors) == len(set(errors)) and errors

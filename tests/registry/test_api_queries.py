@@ -10,8 +10,9 @@ from registry import services
 from registry.models import Emission, HazardResult, Laser
 
 # Per request: the caller's person (1), the page count (1), the lasers with owner, owner's
-# account, research group and room joined (1), their emissions (1), the emissions' hazard
-# results (1) - selectors.laser_list().
+# account, research group and room joined (1; the page's keys chosen in a subquery,
+# registry.pagination), their emissions (1), the emissions' hazard results (1) -
+# selectors.laser_list().
 LASER_LIST_QUERIES = 5
 # More than the largest page (200), so the bound shows.
 LASERS = 230

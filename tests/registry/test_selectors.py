@@ -14,6 +14,8 @@ from registry.selectors import (
     eyewear_inspections_due,
     laser_list,
     location_eyewear_matrix,
+    room_eyewear_needs,
+    room_laser_classes,
     signal_word,
     training_expiring,
 )
@@ -115,6 +117,37 @@ def test_an_emission_without_a_result_is_listed_as_not_assessed() -> None:
     assert matrix.emissions == []
 
 
+def test_a_room_s_eyewear_needs_are_its_assessed_emissions_needing_eyewear_each_distinct_need_once() -> None:
+    from registry.services import emission_create, laser_retire
+
+    location, q_switched = _q_switched_room()
+    result = q_switched.hazard_results.get(limits="icnirp2013")
+    # A second laser of the same model asks the same of eyewear; a 405 nm one asks something else.
+    for wavelength in ("1064 nm", "405 nm"):
+        laser = factories.LaserFactory.create(labelled_class="4", location=location)
+        emission_create(laser=laser, by=None, wavelength_m=wavelength, temporal_mode="q_switched",
+                        average_power_W="1 W", pulse_energy_J="100 mJ", pulse_duration_s="10 ns", prf_Hz="10 Hz",
+                        beam_diameter_m="5 mm", divergence_rad="1 mrad", diameter_definition="1/e")
+    # Neither a laser that has left the register's care, nor one without figures, nor one that needs no eyewear.
+    gone = factories.LaserFactory.create(labelled_class="4", location=location)
+    emission_create(laser=gone, by=None, wavelength_m="532 nm", temporal_mode="cw", average_power_W="2 W",
+                    beam_diameter_m="2 mm", divergence_rad="1 mrad")
+    laser_retire(laser=gone, by=factories.PersonFactory.create(role="lso"), status="disposed", reason="Scrapped.")
+    factories.EmissionFactory.create(laser=factories.LaserFactory.create(labelled_class="1", location=location))
+    dim = factories.LaserFactory.create(labelled_class="1", embedded_class="3R", location=location)
+    emission_create(laser=dim, by=None, wavelength_m="650 nm", temporal_mode="cw", average_power_W="1 uW",
+                    beam_diameter_m="2 mm", divergence_rad="1 mrad")
+
+    with CaptureQueriesContext(connection) as queries:
+        needs = room_eyewear_needs(location=location, limits="icnirp2013")
+    assert len(queries) == 1
+    assert sorted(need.wavelength_m for need in needs) == pytest.approx([405e-9, 1064e-9])
+    needing = next(need for need in needs if need.wavelength_m == pytest.approx(1064e-9))
+    assert (needing.od_required, needing.en207_requirements) == (result.od_required, result.en207_requirements)
+    # The classes of the lasers in its care: the embedded class where given; the disposed laser is gone.
+    assert room_laser_classes(location=location) == {"4", "1", "3R"}
+
+
 @pytest.mark.parametrize(("classes", "word"), [
     (["2", "3R"], "CAUTION"),
     (["3R", "3B"], "WARNING"),
@@ -214,3 +247,33 @@ def test_an_eyewear_inspection_is_due_months_after_the_last_even_from_a_month_en
     assert retired not in [entry.eyewear for entry in due] and recent not in [entry.eyewear for entry in due]
     assert [entry.eyewear for entry in eyewear_inspections_due(today=datetime.date(2031, 3, 2), within_days=0)] == [
         never, month_end, recent]
+
+
+@pytest.mark.parametrize(("tags", "proposed"), [
+    (["FV-0003", "FV-0028"], "FV-0029"),
+    # Compared as numbers, whatever their width; the newest tag's width is kept.
+    (["FV-100", "FV-0099"], "FV-0101"),
+    (["FV-0024-G09970", "FV-0025-G00012", "FV-0025-G09971"], "FV-0025-G09972"),
+    # The prefix is taken as it is written: neither a pattern nor in another case.
+    (["AXB-9", "fv-0100", "A.B-7"], "A.B-8"),
+    (["FV-0100", "fv-0002"], "fv-0003"),
+    (["Z-000"], "Z-001"),
+])
+def test_the_proposed_asset_tag_follows_the_newest_tag_s_prefix_past_its_highest_number(
+        tags: list[str], proposed: str) -> None:
+    from registry.selectors import next_asset_tag
+
+    for tag in tags:
+        factories.LaserFactory.create(asset_tag=tag)
+    with CaptureQueriesContext(connection) as queries:
+        assert next_asset_tag() == proposed
+    # The newest tag, then the highest number after its prefix.
+    assert len(queries) == 2
+
+
+def test_a_register_whose_newest_tag_has_no_number_proposes_the_default_tag() -> None:
+    from registry.selectors import next_asset_tag
+
+    factories.LaserFactory.create(asset_tag="LSR-0007")
+    factories.LaserFactory.create(asset_tag="HELIUM NEON")
+    assert next_asset_tag() == "LSR-0001"

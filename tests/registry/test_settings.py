@@ -103,6 +103,21 @@ def test_production_without_mail_gets_a_deployment_warning() -> None:
     assert "registry.W001" in result.stderr
 
 
+@pytest.mark.parametrize(("environment", "kept_seconds"), [
+    ({"BEAMKEEPER_ENV": "production", "SECRET_KEY": PRODUCTION_KEY, "ALLOWED_HOSTS": "register.campus.example"}, "600"),
+    ({}, "0"),
+    ({"BEAMKEEPER_ENV": "production", "SECRET_KEY": PRODUCTION_KEY, "ALLOWED_HOSTS": "register.campus.example",
+      "DATABASE_CONN_MAX_AGE": "0"}, "0"),
+])
+def test_production_keeps_its_database_connection_between_requests(environment: dict[str, str],
+                                                                   kept_seconds: str) -> None:
+    show = ("from django.conf import settings; database = settings.DATABASES['default']; "
+            "print(database['CONN_MAX_AGE'], database['CONN_HEALTH_CHECKS'])")
+    result = run_manage("shell", "--no-imports", "-c", show, **{"DATABASE_CONN_MAX_AGE": "", **environment})
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.split() == [kept_seconds, "True"]
+
+
 def test_development_mode_runs_the_checks_with_no_environment() -> None:
     result = run_manage("check")
     assert result.returncode == 0, result.stderr
