@@ -14,6 +14,7 @@ import datetime
 from collections.abc import Iterable
 
 from django.db import models, transaction
+from django.db.models import Count
 from django.utils import timezone
 
 from hazards.limits import LIMIT_SETS
@@ -66,6 +67,15 @@ def room_standings_refresh(*, locations: Iterable[int | None]) -> None:
                  for room in selectors.room_hazards(locations=rooms, limits=limits, summary=True)]
     RoomStanding.objects.bulk_create(standings, update_conflicts=True, unique_fields=["location", "limits"],
                                      update_fields=_STANDING_VALUES)
+
+
+def room_standings_fill_missing() -> None:
+    """Compute the standing of every room that lacks one under some limit set: a database that
+    has just been migrated to the standings, or restored from a backup taken before them. Run
+    after every ``migrate`` that applied something (registry.apps); one query when none is missing."""
+    missing = (Location.objects.annotate(standings_held=Count("standings"))
+               .filter(standings_held__lt=len(LIMIT_SETS)).values_list("pk", flat=True))
+    room_standings_refresh(locations=list(missing))
 
 
 def _standing(room: selectors.RoomHazards, limits: str, now: datetime.datetime) -> RoomStanding:

@@ -10,14 +10,17 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from django.apps import apps
 from django.core.management import call_command
 from django.db import connection
+from django.db.migrations.loader import MigrationLoader
 from django.test import Client, TransactionTestCase
 from django.urls import reverse
 from rest_framework.test import APIClient
 
 from hazards.limits import LIMIT_SETS
 from registry import selectors, services
+from registry.apps import fill_missing_standings
 from registry.models import Eyewear, Laser, Location, RoomStanding
 from registry.services.standings import room_standings_refresh
 from tests import factories
@@ -247,6 +250,27 @@ def test_the_refresh_fills_rooms_written_without_the_services(campus: Campus) ->
     room_standings_refresh(locations=[room.pk])
     assert_standings_current()
     assert (campus.standing(room).lasers, campus.standing(room).beyond_room) == (1, 1)
+
+
+def test_a_migrate_that_applied_migrations_fills_the_rooms_without_a_standing(campus: Campus) -> None:
+    """A database migrated to the standings (or restored from an older backup) has rooms with none."""
+    RoomStanding.objects.filter(location=campus.lab).delete()
+    registry = apps.get_app_config("registry")
+    fill_missing_standings(registry, using="default", plan=None)  # flush sends no plan: nothing done
+    assert not RoomStanding.objects.filter(location=campus.lab).exists()
+    hall_computed_at = campus.standing(campus.hall).computed_at
+    applied = [(MigrationLoader(connection).graph.nodes[("registry", "0012_room_standing")], False)]
+    fill_missing_standings(registry, using="default", plan=applied)
+    assert_standings_current()
+    assert (campus.standing(campus.lab).lasers, campus.standing(campus.lab).unprotected) == (2, 2)
+    assert campus.standing(campus.hall).computed_at == hall_computed_at  # a room that had one is left alone
+
+
+def test_a_migrate_backwards_fills_nothing(campus: Campus) -> None:
+    RoomStanding.objects.filter(location=campus.lab).delete()
+    undone = [(MigrationLoader(connection).graph.nodes[("registry", "0012_room_standing")], True)]
+    fill_missing_standings(apps.get_app_config("registry"), using="default", plan=undone)
+    assert not RoomStanding.objects.filter(location=campus.lab).exists()
 
 
 def test_the_campus_loader_stores_every_room_s_standing() -> None:
