@@ -897,7 +897,7 @@ def laser_register(*, limits: str | None = None, ordering: str = "asset_tag", pa
 
     With ``page_rows`` the lasers (with their owner's account and room), emissions and results
     carry only the columns a row of the register page shows: building the full rows, with
-    their timestamps, free text and the owner's group, was half of the page's CPU time.
+    their timestamps, free text and the owner's group, was about half of the page's CPU time.
     """
     if page_rows:
         lasers = _with_emissions(Laser.objects.select_related("owner__user", "location").only(*_PAGE_ROW_LASER),
