@@ -113,8 +113,10 @@ def wavelength_lines(matrix: EyewearMatrix) -> list[WavelengthLine]:
         pulses = [emission for emission in emissions if emission.pulse_energy_J is not None]
         strongest = max(pulses, key=lambda emission: emission.pulse_energy_J or 0.0, default=None)
         all_assessed = all(emission.pk in assessed for emission in emissions)
+        # The matrix rates eyewear only against assessed emissions: none fits a line with one that is not.
         fitting = [item for item in matrix.eyewear if item.condition != EyewearCondition.DAMAGED
-                   and all(matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in emissions)]
+                   and all(matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in emissions)
+                   ] if all_assessed else []
         lines.append(WavelengthLine(
             wavelength_m=low, wavelength_max_m=high,
             classes=sorted({emission.laser.effective_class for emission in emissions}, key=LASER_CLASSES.index),
@@ -125,7 +127,7 @@ def wavelength_lines(matrix: EyewearMatrix) -> list[WavelengthLine]:
             od_required=max((result.od_required for result in results if result.od_required is not None),
                             default=None),
             en207_markings=sorted({result.en207_marking for result in results if result.en207_marking}),
-            eyewear=fitting if all_assessed else [], assessed=all_assessed,
+            eyewear=fitting, assessed=all_assessed,
         ))
     return lines
 

@@ -57,6 +57,18 @@ def flat(text: str) -> str:
     return re.sub(r"\s+", " ", text).replace("- ", "-")
 
 
+def add_laser_not_assessed(world: DocumentsWorld) -> None:
+    """A 905 nm diode in the world's room whose data sheet gives no divergence: the engine cannot
+    assess its beam, so emission_create saves it without results."""
+    from registry import services
+
+    laser = services.laser_register(by=world.owner, asset_tag="DIO-2", laser_type="diode", labelled_class="3B",
+                                    owner=world.owner, location=world.room, manufacturer="Holm Photonics",
+                                    model_name="D-905")
+    services.emission_create(laser=laser, by=world.owner, label="output", wavelength_m="905 nm", temporal_mode="cw",
+                             average_power_W="200 mW", beam_diameter_m="2 mm")
+
+
 class DoorSignTests(TestCase):
     world: DocumentsWorld
 
@@ -123,6 +135,13 @@ class DoorSignTests(TestCase):
         services.record_retire(record=self.world.goggles_808, by=self.world.lso, reason="Filter cracked.")
         html = flat(render_door_sign(self.world.room, generated_at=GENERATED_AT).html)
         row = re.search(r"<tr>\s*<td>808 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn("none in this room: ask the LSO", row)
+
+    def test_a_wavelength_not_assessed_shows_no_figures_and_sends_people_to_the_lso(self) -> None:
+        add_laser_not_assessed(self.world)
+        html = flat(render_door_sign(self.world.room, generated_at=GENERATED_AT).html)
+        row = re.search(r"<tr>\s*<td>905 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn("not computed", row)
         self.assertIn("none in this room: ask the LSO", row)
 
     def test_the_same_generated_at_gives_the_same_bytes_and_another_does_not(self) -> None:
@@ -201,6 +220,16 @@ class AuditReportTests(TestCase):
         self.assertIn(f"training expired on {lapsed_on:%Y-%m-%d}", flat(pdf_text(document.to_pdf().data)[0]))
         # Before it lapses nothing is flagged.
         self.assertNotIn("training expired", render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+
+    def test_an_emission_not_assessed_is_printed_without_figures_and_said_why(self) -> None:
+        add_laser_not_assessed(self.world)
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        hazards = re.search(r"<tr><td>DIO-2 output</td>(.*?)</tr>", html).group(1)
+        # Eye MPE, NOHD and OD.
+        self.assertEqual(hazards.count("not computed"), 3)
+        eyewear = re.search(r"<tr><td>905 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn('<span class="flag">not assessed</span>', eyewear)
+        self.assertIn("Not assessed: full-angle divergence (rad): needed to assess the hazard of DIO-2", html)
 
     def test_a_signed_off_report_names_who_signed_it(self) -> None:
         from registry import services
