@@ -251,6 +251,24 @@ class LaserPeople:
         return [row for row in self.rows if row.flags]
 
 
+def room_name(location: Location | None) -> str:
+    """A room as the report names it above its rows: "Alder Hall 101, North Site"."""
+    return "In no room" if location is None else f"{location}, {location.site}"
+
+
+@dataclass(frozen=True)
+class RoomLasers:
+    """The lasers of the scope in one room (None: in no room), for the printed snapshot, which
+    names each room once."""
+
+    location: Location | None
+    lasers: list[Laser]
+
+    @property
+    def name(self) -> str:
+        return room_name(self.location)
+
+
 @dataclass(frozen=True)
 class WarningGroup:
     """One warning of the engine, or one reason an emission is not assessed, with the emissions it concerns."""
@@ -264,6 +282,10 @@ class RoomEyewear:
     location: Location
     eyewear: list[Eyewear]
     lines: list[WavelengthLine]
+
+    @property
+    def name(self) -> str:
+        return room_name(self.location)
 
 
 @dataclass(frozen=True)
@@ -332,6 +354,13 @@ class AuditReport:
     @property
     def flagged_count(self) -> int:
         return sum(1 for row in self.people if row.flags)
+
+    @property
+    def lasers_by_room(self) -> list[RoomLasers]:
+        grouped: dict[int | None, RoomLasers] = {}
+        for laser in self.lasers:
+            grouped.setdefault(laser.location_id, RoomLasers(location=laser.location, lasers=[])).lasers.append(laser)
+        return list(grouped.values())
 
     @property
     def people_by_laser(self) -> list[LaserPeople]:

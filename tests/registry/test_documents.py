@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 from django.conf import settings
 from django.test import TestCase, override_settings
-from pypdf import PdfReader
+from pypdf import PageObject, PdfReader
 
 from hazards.caution import CAUTION
 from hazards.units import format_for_people
@@ -44,6 +44,19 @@ def pdf_text(data: bytes) -> tuple[str, int]:
 def page_size(data: bytes) -> tuple[float, float]:
     box = PdfReader(io.BytesIO(data)).pages[0].mediabox
     return round(float(box.width), 2), round(float(box.height), 2)
+
+
+def page_head(page: PageObject) -> str:
+    """The text above the report's top margin (16 mm): its reference and the room at the top of the page."""
+    top = float(page.mediabox.height) - 16 / 25.4 * 72
+    parts: list[str] = []
+
+    def visit(text: str, cm: list[float], tm: list[float], font: object, size: float) -> None:
+        if text.strip() and tm[5] * cm[3] + cm[5] > top:
+            parts.append(text.strip())
+
+    page.extract_text(visitor_text=visit)
+    return " ".join(parts)
 
 
 def digest(data: bytes) -> str:
@@ -221,10 +234,38 @@ class AuditReportTests(TestCase):
         # Before it lapses nothing is flagged.
         self.assertNotIn("training expired", render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
 
+    def test_the_snapshot_names_each_room_once_above_its_lasers(self) -> None:
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        snapshot = html[html.index("1. Register snapshot"):html.index("2. Hazards per emission")]
+        self.assertEqual(re.findall(r"<th colspan=\"3\">(.*?)</th>", snapshot),
+                         ["Alder Hall 101 (Pulsed laser laboratory), North Site (2 lasers)"])
+        self.assertEqual(re.findall(r"<tr[^>]*><td>(.*?)</td><td>(.*?)</td><td>(.*?)</td></tr>", snapshot),
+                         [("DIO-1, class 3B, active", "Holm Photonics D-808", "Rhea Tallis"),
+                          ("YAG-1, class 4, active", "Holm Photonics QX-10", "Rhea Tallis")])
+
+    def test_an_emission_is_one_row_with_its_beam_its_figures_and_the_eyewear_it_needs(self) -> None:
+        yag = HazardResult.objects.get(emission__laser=self.world.yag, limits="icnirp2013")
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        mpe, nohd, eyewear = re.search(r"<tr><td>YAG-1 fundamental: 1064 nm, 1 W; 100 mJ in 10 ns</td><td>(.*?)</td>"
+                                       r"<td class=\"figure\">(.*?)</td><td>(.*?)</td></tr>", html).groups()
+        self.assertIn(f"{format_for_people(yag.eye_mpe_per_pulse_J_m2, 'J/m2')} per pulse", mpe)
+        self.assertEqual(nohd, format_for_people(yag.nohd_m, "m"))
+        self.assertEqual(eyewear, f"OD {yag.od_required:g}; {yag.en207_marking}")
+
+    def test_a_page_that_starts_among_a_rooms_lasers_names_the_room_at_its_head(self) -> None:
+        room = factories.LocationFactory.create(site="South Site", building="Birch Hall", room="12")
+        factories.LaserFactory.create_batch(60, location=room, owner=self.world.owner)
+        pages = PdfReader(io.BytesIO(render_pre_audit_pack(room, generated_at=GENERATED_AT).to_pdf().data)).pages
+        # Page 2 opens the snapshot, with the room's own row; page 3 goes on among its 60 lasers.
+        self.assertIn("Birch Hall 12, South Site (60 lasers)", pages[1].extract_text())
+        self.assertNotIn("Birch Hall 12", page_head(pages[1]))
+        self.assertNotIn("(60 lasers)", pages[2].extract_text())
+        self.assertIn("Birch Hall 12, South Site", page_head(pages[2]))
+
     def test_an_emission_not_assessed_is_printed_without_figures_and_said_why(self) -> None:
         add_laser_not_assessed(self.world)
         html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
-        hazards = re.search(r"<tr><td>DIO-2 output</td>(.*?)</tr>", html).group(1)
+        hazards = re.search(r"<tr><td>DIO-2 output: 905 nm, 200 mW</td>(.*?)</tr>", html).group(1)
         # Eye MPE, NOHD and OD.
         self.assertEqual(hazards.count("not computed"), 3)
         eyewear = re.search(r"<tr><td>905 nm</td>(.*?)</tr>", html).group(1)
