@@ -8,6 +8,7 @@ tests/registry/test_hazards.py.
 from __future__ import annotations
 
 import datetime
+import gc
 import hashlib
 import io
 import re
@@ -17,13 +18,13 @@ from pathlib import Path
 
 import pytest
 from django.conf import settings
-from django.test import TestCase, override_settings
+from django.test import SimpleTestCase, TestCase, override_settings
 from pypdf import PageObject, PdfReader
 
 from hazards.caution import CAUTION
 from hazards.units import format_for_people
 from registry import selectors
-from registry.documents import Paper, render_audit_report, render_door_sign, render_laser_label, render_pre_audit_pack
+from registry.documents import Document, Paper, render_audit_report, render_door_sign, render_laser_label, render_pre_audit_pack
 from registry.models import HazardResult
 from tests import factories
 from tests.registry.documents_world import DocumentsWorld, build_documents_world
@@ -80,6 +81,37 @@ def add_laser_not_assessed(world: DocumentsWorld) -> None:
                                     model_name="D-905")
     services.emission_create(laser=laser, by=world.owner, label="output", wavelength_m="905 nm", temporal_mode="cw",
                              average_power_W="200 mW", beam_diameter_m="2 mm")
+
+
+class RenderTests(SimpleTestCase):
+    """Document.to_pdf keeps the cycle collector off while WeasyPrint works (see the comment there)."""
+
+    # Twenty rows: enough objects for the collector to run several times if it were on.
+    document = Document(html="<table>" + "<tr><td>Laser</td><td>Room</td></tr>" * 20 + "</table>",
+                        filename="rows.pdf")
+
+    def test_no_cycle_collection_runs_during_a_render_and_the_collector_is_on_again_after(self) -> None:
+        generations: list[int] = []
+
+        def count(phase: str, info: dict[str, int]) -> None:
+            if phase == "start":
+                generations.append(info["generation"])
+
+        gc.callbacks.append(count)
+        try:
+            pdf = self.document.to_pdf()
+        finally:
+            gc.callbacks.remove(count)
+        self.assertEqual((generations, pdf.pages), ([], 1))
+        self.assertIs(gc.isenabled(), True)
+
+    def test_a_collector_that_was_off_stays_off(self) -> None:
+        gc.disable()
+        try:
+            self.document.to_pdf()
+            self.assertIs(gc.isenabled(), False)
+        finally:
+            gc.enable()
 
 
 class DoorSignTests(TestCase):
