@@ -113,8 +113,10 @@ def wavelength_lines(matrix: EyewearMatrix) -> list[WavelengthLine]:
         pulses = [emission for emission in emissions if emission.pulse_energy_J is not None]
         strongest = max(pulses, key=lambda emission: emission.pulse_energy_J or 0.0, default=None)
         all_assessed = all(emission.pk in assessed for emission in emissions)
+        # The matrix rates eyewear only against assessed emissions: none fits a line with one that is not.
         fitting = [item for item in matrix.eyewear if item.condition != EyewearCondition.DAMAGED
-                   and all(matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in emissions)]
+                   and all(matrix.cells[(emission.pk, item.pk)].status == "adequate" for emission in emissions)
+                   ] if all_assessed else []
         lines.append(WavelengthLine(
             wavelength_m=low, wavelength_max_m=high,
             classes=sorted({emission.laser.effective_class for emission in emissions}, key=LASER_CLASSES.index),
@@ -125,7 +127,7 @@ def wavelength_lines(matrix: EyewearMatrix) -> list[WavelengthLine]:
             od_required=max((result.od_required for result in results if result.od_required is not None),
                             default=None),
             en207_markings=sorted({result.en207_marking for result in results if result.en207_marking}),
-            eyewear=fitting if all_assessed else [], assessed=all_assessed,
+            eyewear=fitting, assessed=all_assessed,
         ))
     return lines
 
@@ -249,6 +251,24 @@ class LaserPeople:
         return [row for row in self.rows if row.flags]
 
 
+def room_name(location: Location | None) -> str:
+    """A room as the report names it above its rows: "Alder Hall 101, North Site"."""
+    return "In no room" if location is None else f"{location}, {location.site}"
+
+
+@dataclass(frozen=True)
+class RoomLasers:
+    """The lasers of the scope in one room (None: in no room), for the printed snapshot, which
+    names each room once."""
+
+    location: Location | None
+    lasers: list[Laser]
+
+    @property
+    def name(self) -> str:
+        return room_name(self.location)
+
+
 @dataclass(frozen=True)
 class WarningGroup:
     """One warning of the engine, or one reason an emission is not assessed, with the emissions it concerns."""
@@ -262,6 +282,10 @@ class RoomEyewear:
     location: Location
     eyewear: list[Eyewear]
     lines: list[WavelengthLine]
+
+    @property
+    def name(self) -> str:
+        return room_name(self.location)
 
 
 @dataclass(frozen=True)
@@ -330,6 +354,13 @@ class AuditReport:
     @property
     def flagged_count(self) -> int:
         return sum(1 for row in self.people if row.flags)
+
+    @property
+    def lasers_by_room(self) -> list[RoomLasers]:
+        grouped: dict[int | None, RoomLasers] = {}
+        for laser in self.lasers:
+            grouped.setdefault(laser.location_id, RoomLasers(location=laser.location, lasers=[])).lasers.append(laser)
+        return list(grouped.values())
 
     @property
     def people_by_laser(self) -> list[LaserPeople]:

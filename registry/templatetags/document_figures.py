@@ -70,6 +70,12 @@ def od_needed(required: float | None) -> str:
 
 
 @register.filter
+def result_od(result: HazardResult | None) -> str:
+    """The OD a stored result calls for; an emission without a result under the limit set is not computed."""
+    return NOT_COMPUTED if result is None else od_needed(result.od_required)
+
+
+@register.filter
 def eye_mpe(result: HazardResult | None) -> str:
     """The eye MPE: per pulse first for pulsed emissions; otherwise irradiance over its exposure duration."""
     if result is None:

@@ -8,6 +8,7 @@ tests/registry/test_hazards.py.
 from __future__ import annotations
 
 import datetime
+import gc
 import hashlib
 import io
 import re
@@ -17,13 +18,13 @@ from pathlib import Path
 
 import pytest
 from django.conf import settings
-from django.test import TestCase, override_settings
-from pypdf import PdfReader
+from django.test import SimpleTestCase, TestCase, override_settings
+from pypdf import PageObject, PdfReader
 
 from hazards.caution import CAUTION
 from hazards.units import format_for_people
 from registry import selectors
-from registry.documents import Paper, render_audit_report, render_door_sign, render_laser_label, render_pre_audit_pack
+from registry.documents import Document, Paper, render_audit_report, render_door_sign, render_laser_label, render_pre_audit_pack
 from registry.models import HazardResult
 from tests import factories
 from tests.registry.documents_world import DocumentsWorld, build_documents_world
@@ -46,6 +47,19 @@ def page_size(data: bytes) -> tuple[float, float]:
     return round(float(box.width), 2), round(float(box.height), 2)
 
 
+def page_head(page: PageObject) -> str:
+    """The text above the report's top margin (16 mm): its reference and the room at the top of the page."""
+    top = float(page.mediabox.height) - 16 / 25.4 * 72
+    parts: list[str] = []
+
+    def visit(text: str, cm: list[float], tm: list[float], font: object, size: float) -> None:
+        if text.strip() and tm[5] * cm[3] + cm[5] > top:
+            parts.append(text.strip())
+
+    page.extract_text(visitor_text=visit)
+    return " ".join(parts)
+
+
 def digest(data: bytes) -> str:
     """Compared instead of the bytes themselves, so that a failure prints two lines, not two PDFs."""
     return hashlib.sha256(data).hexdigest()
@@ -55,6 +69,49 @@ def flat(text: str) -> str:
     """Text with runs of white space made one space, and words hyphenated at a line end joined again:
     extraction breaks lines where the layout does."""
     return re.sub(r"\s+", " ", text).replace("- ", "-")
+
+
+def add_laser_not_assessed(world: DocumentsWorld) -> None:
+    """A 905 nm diode in the world's room whose data sheet gives no divergence: the engine cannot
+    assess its beam, so emission_create saves it without results."""
+    from registry import services
+
+    laser = services.laser_register(by=world.owner, asset_tag="DIO-2", laser_type="diode", labelled_class="3B",
+                                    owner=world.owner, location=world.room, manufacturer="Holm Photonics",
+                                    model_name="D-905")
+    services.emission_create(laser=laser, by=world.owner, label="output", wavelength_m="905 nm", temporal_mode="cw",
+                             average_power_W="200 mW", beam_diameter_m="2 mm")
+
+
+class RenderTests(SimpleTestCase):
+    """Document.to_pdf keeps the cycle collector off while WeasyPrint works (see the comment there)."""
+
+    # Twenty rows: enough objects for the collector to run several times if it were on.
+    document = Document(html="<table>" + "<tr><td>Laser</td><td>Room</td></tr>" * 20 + "</table>",
+                        filename="rows.pdf")
+
+    def test_no_cycle_collection_runs_during_a_render_and_the_collector_is_on_again_after(self) -> None:
+        generations: list[int] = []
+
+        def count(phase: str, info: dict[str, int]) -> None:
+            if phase == "start":
+                generations.append(info["generation"])
+
+        gc.callbacks.append(count)
+        try:
+            pdf = self.document.to_pdf()
+        finally:
+            gc.callbacks.remove(count)
+        self.assertEqual((generations, pdf.pages), ([], 1))
+        self.assertIs(gc.isenabled(), True)
+
+    def test_a_collector_that_was_off_stays_off(self) -> None:
+        gc.disable()
+        try:
+            self.document.to_pdf()
+            self.assertIs(gc.isenabled(), False)
+        finally:
+            gc.enable()
 
 
 class DoorSignTests(TestCase):
@@ -123,6 +180,13 @@ class DoorSignTests(TestCase):
         services.record_retire(record=self.world.goggles_808, by=self.world.lso, reason="Filter cracked.")
         html = flat(render_door_sign(self.world.room, generated_at=GENERATED_AT).html)
         row = re.search(r"<tr>\s*<td>808 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn("none in this room: ask the LSO", row)
+
+    def test_a_wavelength_not_assessed_shows_no_figures_and_sends_people_to_the_lso(self) -> None:
+        add_laser_not_assessed(self.world)
+        html = flat(render_door_sign(self.world.room, generated_at=GENERATED_AT).html)
+        row = re.search(r"<tr>\s*<td>905 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn("not computed", row)
         self.assertIn("none in this room: ask the LSO", row)
 
     def test_the_same_generated_at_gives_the_same_bytes_and_another_does_not(self) -> None:
@@ -201,6 +265,44 @@ class AuditReportTests(TestCase):
         self.assertIn(f"training expired on {lapsed_on:%Y-%m-%d}", flat(pdf_text(document.to_pdf().data)[0]))
         # Before it lapses nothing is flagged.
         self.assertNotIn("training expired", render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+
+    def test_the_snapshot_names_each_room_once_above_its_lasers(self) -> None:
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        snapshot = html[html.index("1. Register snapshot"):html.index("2. Hazards per emission")]
+        self.assertEqual(re.findall(r"<th colspan=\"3\">(.*?)</th>", snapshot),
+                         ["Alder Hall 101 (Pulsed laser laboratory), North Site (2 lasers)"])
+        self.assertEqual(re.findall(r"<tr[^>]*><td>(.*?)</td><td>(.*?)</td><td>(.*?)</td></tr>", snapshot),
+                         [("DIO-1, class 3B, active", "Holm Photonics D-808", "Rhea Tallis"),
+                          ("YAG-1, class 4, active", "Holm Photonics QX-10", "Rhea Tallis")])
+
+    def test_an_emission_is_one_row_with_its_beam_its_figures_and_the_eyewear_it_needs(self) -> None:
+        yag = HazardResult.objects.get(emission__laser=self.world.yag, limits="icnirp2013")
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        mpe, nohd, eyewear = re.search(r"<tr><td>YAG-1 fundamental: 1064 nm, 1 W; 100 mJ in 10 ns</td><td>(.*?)</td>"
+                                       r"<td class=\"figure\">(.*?)</td><td>(.*?)</td></tr>", html).groups()
+        self.assertIn(f"{format_for_people(yag.eye_mpe_per_pulse_J_m2, 'J/m2')} per pulse", mpe)
+        self.assertEqual(nohd, format_for_people(yag.nohd_m, "m"))
+        self.assertEqual(eyewear, f"OD {yag.od_required:g}; {yag.en207_marking}")
+
+    def test_a_page_that_starts_among_a_rooms_lasers_names_the_room_at_its_head(self) -> None:
+        room = factories.LocationFactory.create(site="South Site", building="Birch Hall", room="12")
+        factories.LaserFactory.create_batch(60, location=room, owner=self.world.owner)
+        pages = PdfReader(io.BytesIO(render_pre_audit_pack(room, generated_at=GENERATED_AT).to_pdf().data)).pages
+        # Page 2 opens the snapshot, with the room's own row; page 3 goes on among its 60 lasers.
+        self.assertIn("Birch Hall 12, South Site (60 lasers)", pages[1].extract_text())
+        self.assertNotIn("Birch Hall 12", page_head(pages[1]))
+        self.assertNotIn("(60 lasers)", pages[2].extract_text())
+        self.assertIn("Birch Hall 12, South Site", page_head(pages[2]))
+
+    def test_an_emission_not_assessed_is_printed_without_figures_and_said_why(self) -> None:
+        add_laser_not_assessed(self.world)
+        html = flat(render_audit_report(self.world.audit, generated_at=GENERATED_AT).html)
+        hazards = re.search(r"<tr><td>DIO-2 output: 905 nm, 200 mW</td>(.*?)</tr>", html).group(1)
+        # Eye MPE, NOHD and OD.
+        self.assertEqual(hazards.count("not computed"), 3)
+        eyewear = re.search(r"<tr><td>905 nm</td>(.*?)</tr>", html).group(1)
+        self.assertIn('<span class="flag">not assessed</span>', eyewear)
+        self.assertIn("Not assessed: full-angle divergence (rad): needed to assess the hazard of DIO-2", html)
 
     def test_a_signed_off_report_names_who_signed_it(self) -> None:
         from registry import services
