@@ -2,6 +2,8 @@
 adequacy matrix, entry controls, and NOHD against its size."""
 from __future__ import annotations
 
+from urllib.parse import urlencode
+
 from django.http import HttpResponse
 from django.shortcuts import render
 from django.utils import timezone
@@ -27,7 +29,8 @@ def location_list(request: PageRequest) -> HttpResponse:
     return render(request, "pages/locations.html", {
         "rooms": selectors.room_list_page(number=request.GET.get("page"), needs=needs, limits=limits,
                                           today=timezone.localdate()),
-        "needs": needs, "title": ROOM_LIST_TITLES[needs], "limits": limits,
+        "needs": needs, "query": urlencode({"needs": needs}) if needs else "", "title": ROOM_LIST_TITLES[needs],
+        "limits": limits,
     })
 
 

@@ -10,23 +10,31 @@ from django.views.decorators.http import require_POST
 from registry import permissions, selectors
 from registry.forms import ReviewForm
 from registry.models import Laser, LaserStatus
+from registry.pagination import KeysFirstPaginator
 from registry.services import laser_approve, laser_return
 from registry.templatetags.hazard_figures import unchecked_rows
 from registry.views.access import PageRequest, page, visible_or_404
 
 
+# Each entry carries its emissions' figures, warnings and a decision form: a page of twenty reads
+# (and loads) in reasonable time however many registrations wait.
+REVIEW_PAGE_SIZE = 20
+
+
 @page(permissions.LASERS, "approve")
 def review_queue(request: PageRequest) -> HttpResponse:
+    """The registrations waiting for review, the longest waiting first, a page at a time."""
     limits = selectors.register_limits()
     pending = selectors.laser_list(with_working=True).filter(status=LaserStatus.PENDING_REVIEW).order_by("created_at")
+    listing = KeysFirstPaginator(pending, REVIEW_PAGE_SIZE).get_page(request.GET.get("page"))
     entries = [{
         "laser": laser,
         "emissions": [{"emission": emission, "result": (result := selectors.result_under(emission, limits)),
                        "unchecked": unchecked_rows(result.working) if result else []}
                       for emission in laser.current_emissions],
         "form": ReviewForm(prefix=f"laser-{laser.pk}"),
-    } for laser in pending]
-    return render(request, "pages/review.html", {"entries": entries, "limits": limits})
+    } for laser in listing]
+    return render(request, "pages/review.html", {"entries": entries, "listing": listing, "limits": limits})
 
 
 @require_POST

@@ -21,6 +21,7 @@ from hazards.units import parse_quantity
 from registry import selectors, services
 from registry.exports import HAZARD_HEADERS, IMPORT_HEADERS
 from registry.services.standings import room_standings_refresh
+from registry.views.review import REVIEW_PAGE_SIZE
 from registry.models import (
     Authorization,
     AuthorizationStatus,
@@ -382,6 +383,20 @@ class ReviewTests(TestCase):
         result = self.world.pending_laser.emissions.get().hazard_results.get(limits="icnirp2013")
         self.assertContains(response, escape(result.warnings[0]))
 
+    def test_the_queue_pages_the_longest_waiting_first_and_counts_them_all(self) -> None:
+        waiting = [factories.LaserFactory.create(status="pending_review", owner=self.world.owner,
+                                                 location=self.world.laser.location) for _ in range(REVIEW_PAGE_SIZE)]
+        client = _client(self.world, "lso")
+        first = client.get("/review/")
+        tags = [entry["laser"].asset_tag for entry in first.context["entries"]]
+        self.assertEqual(tags, ["TST-0002", *(laser.asset_tag for laser in waiting[:REVIEW_PAGE_SIZE - 1])])
+        self.assertContains(first, f"{REVIEW_PAGE_SIZE + 1} registrations waiting")
+        self.assertContains(first, 'href="?page=2"')
+        second = client.get("/review/?page=2")
+        self.assertEqual([entry["laser"].asset_tag for entry in second.context["entries"]], [waiting[-1].asset_tag])
+        self.assertContains(second, f"Approve {waiting[-1].asset_tag}")
+        self.assertContains(second, "Page 2 of 2")
+
     def test_the_lso_approves_a_pending_laser(self) -> None:
         response = _client(self.world, "lso").post(f"/review/{self.world.pending_laser.pk}/", {"approve": "1"})
         self.assertRedirects(response, "/review/", fetch_redirect_response=False)
@@ -716,6 +731,12 @@ class QueryCountTests(TestCase):
         # for the filters; 7 the page's lasers (owner, account, group, room joined, sorted by the NOHD
         # annotation; the page's keys chosen in a subquery), 8 their emissions, 9 the emissions' results.
         self._assert_fixed("lso", "/lasers/?ordering=-nohd", 9)
+
+    def test_the_review_queue(self) -> None:
+        # 1 session, 2 account, 3 person; 4 count for the pages; 5 the page's lasers (owner, account,
+        # group, room joined; the page's keys chosen in a subquery), 6 their emissions, 7 the emissions'
+        # results with their working.
+        self._assert_fixed("lso", "/review/", 7)
 
     def test_the_lso_home(self) -> None:
         # 1 session, 2 account, 3 person; training: 4 people with general training, 5 their records;
