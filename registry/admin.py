@@ -30,6 +30,7 @@ from registry.forms import EmissionForm, EyewearMarkingForm, LocationForm, Regis
 from registry.services.hazards import hazard_results_refresh
 from registry.services.standings import room_standings_refresh, standing_rooms
 from registry.models import (
+    RETIRED_STATUSES,
     SOP,
     Audit,
     AuditChecklistItem,
@@ -247,11 +248,29 @@ class LaserAdmin(RetainedAdmin):
             self.message_user(request, f"{emission}: not assessed: {reason}", messages.WARNING)
 
 
+class LaserInCareFilter(admin.SimpleListFilter):
+    """Emissions of lasers in the register's care (not disposed or transferred), as the LSO's home counts them."""
+
+    title = _("laser in the register's care")
+    parameter_name = "in_care"
+
+    def lookups(self, request: HttpRequest, model_admin: Any) -> list[tuple[str, str]]:
+        return [("yes", _("yes")), ("no", _("no: disposed or transferred"))]
+
+    def queryset(self, request: HttpRequest, queryset: QuerySet[Any]) -> QuerySet[Any]:
+        if self.value() == "yes":
+            return queryset.exclude(laser__status__in=RETIRED_STATUSES)
+        if self.value() == "no":
+            return queryset.filter(laser__status__in=RETIRED_STATUSES)
+        return queryset
+
+
 @admin.register(Emission)
 class EmissionAdmin(RegisterAdmin):
     form = EmissionForm
     list_display = ["__str__", "label", "temporal_mode", "average_power", "pulse_energy"]
-    list_filter = ["temporal_mode", "laser__labelled_class", ("assessment_problem", admin.EmptyFieldListFilter)]
+    list_filter = ["temporal_mode", "laser__labelled_class", ("assessment_problem", admin.EmptyFieldListFilter),
+                   LaserInCareFilter]
     search_fields = ["laser__asset_tag", "label"]
     list_select_related = ["laser"]
     autocomplete_fields = ["laser"]
@@ -371,7 +390,7 @@ class TrainingRecordAdmin(RetainedAdmin):
 @admin.register(Authorization)
 class AuthorizationAdmin(RetainedAdmin):
     list_display = ["person", "laser", "status", "requested_by", "decided_by", "valid_until"]
-    list_filter = ["status", "laser__labelled_class", "laser__location"]
+    list_filter = ["status", ("retired_at", admin.EmptyFieldListFilter), "laser__labelled_class", "laser__location"]
     search_fields = ["person__user__username", "person__user__last_name", "laser__asset_tag"]
     list_select_related = ["person__user", "laser", "requested_by__user", "decided_by__user"]
     autocomplete_fields = ["person", "laser", "requested_by", "decided_by"]
@@ -491,7 +510,7 @@ class AuditChecklistItemAdmin(RetainedAdmin):
 @admin.register(Finding)
 class FindingAdmin(RetainedAdmin):
     list_display = ["audit", "severity", "laser", "location", "owner", "due_on", "status"]
-    list_filter = ["status", "severity", "location", "owner"]
+    list_filter = ["status", ("retired_at", admin.EmptyFieldListFilter), "severity", "location", "owner"]
     search_fields = ["audit__reference", "laser__asset_tag", "description"]
     list_select_related = ["audit", "laser", "location", "owner__user"]
     autocomplete_fields = ["laser", "location", "owner"]

@@ -654,15 +654,35 @@ class HomeAttentionTests(TestCase):
         links = {"/review/": "TST-0002", "/lasers/?status=pending_review": "WAIT-0001",
                  "/locations/?needs=eyewear": "Cedar Hall C1", "/locations/?needs=nohd": "Cedar Hall C1",
                  "/locations/?needs=audit": "Cedar Hall C1", "/people/": "Rhea Tallis",
-                 "/admin/registry/authorization/?status__exact=requested": "TST-0001",
-                 "/admin/registry/finding/?status__exact=open": "TST-AUD-2",
-                 "/admin/registry/emission/?assessment_problem__isempty=0": "NOFIG-0001"}
+                 "/admin/registry/authorization/?status__exact=requested&retired_at__isempty=1": "TST-0001",
+                 "/admin/registry/finding/?status__exact=open&retired_at__isempty=1": "TST-AUD-2",
+                 "/admin/registry/emission/?assessment_problem__isempty=0&in_care=yes": "NOFIG-0001"}
         for link, listed in links.items():
             with self.subTest(link=link):
                 self.assertIn(f'href="{escape(link)}"', html)
                 # The full list holds what the home leaves out.
                 self.assertContains(client.get(link), listed)
         self.assertNotIn("Cedar Hall C1", html.split("Rooms whose eyewear is inadequate")[1].split("</section>")[0])
+
+    def test_the_back_office_lists_behind_the_cards_hold_what_the_cards_count(self) -> None:
+        """Retired requests and findings, and emissions of a disposed laser, are in neither."""
+        retired = timezone.now()
+        factories.AuthorizationFactory.create(person=self.world.user, status="requested", retired_at=retired)
+        factories.FindingFactory.create(severity="minor", description="Withdrawn.", retired_at=retired)
+        disposed = factories.LaserFactory.create(location=self.world.room, status="disposed", asset_tag="GONE-0001",
+                                                 retired_on=timezone.localdate())
+        factories.EmissionFactory.create(laser=disposed, divergence_rad=None, assessment_problem="no divergence")
+        client = _client(self.world, "lso")
+        attention = client.get("/").context["attention"]
+        for link, counted in (
+                ("/admin/registry/authorization/?status__exact=requested&retired_at__isempty=1",
+                 attention.authorizations_pending.count),
+                ("/admin/registry/finding/?status__exact=open&retired_at__isempty=1", attention.findings.count),
+                ("/admin/registry/emission/?assessment_problem__isempty=0&in_care=yes", attention.not_assessed.count)):
+            with self.subTest(link=link):
+                self.assertEqual(client.get(link).context["cl"].result_count, counted)
+        self.assertNotContains(client.get("/admin/registry/emission/?assessment_problem__isempty=0&in_care=yes"),
+                               "GONE-0001")
 
     def test_the_rooms_list_pages_the_rooms_most_urgent_first(self) -> None:
         client = _client(self.world, "inspector")
