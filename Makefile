@@ -5,7 +5,8 @@ VENV := .venv
 BIN := $(VENV)/bin
 HOST ?= 127.0.0.1:8000
 # make serve: gunicorn's address, its worker count (from the environment, as platforms set it)
-# and how long a request may take (an audit report of a whole site takes tens of seconds).
+# and how long a request may take (a whole site's audit report: about 4 s for 500 lasers when the
+# machine is quiet, several times that when it is busy, more for a larger site).
 BIND ?= 127.0.0.1:8000
 WEB_CONCURRENCY ?= 2
 GUNICORN_TIMEOUT ?= 120
