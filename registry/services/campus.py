@@ -45,7 +45,7 @@ from registry.services._logging import service_action
 from registry.services.hazards import hazard_results_refresh
 from registry.services.lasers import emission_values
 from registry.services.people import person_sync_account
-from registry.services.standings import room_standings_refresh
+from registry.services.standings import room_standings_batch, room_standings_refresh
 
 ModelT = TypeVar("ModelT", bound=models.Model)
 
@@ -324,10 +324,11 @@ def campus_load(*, data: Mapping[str, Any], today: datetime.date | None = None,
     """
     loader = _Loader(data, today=today or timezone.localdate(), set_demo_passwords=set_demo_passwords)
     loader.load()
-    hazards = hazard_results_refresh(
-        emissions=Emission.objects.select_related("laser").prefetch_related("hazard_results"), only_stale=True)
-    # The loader writes lasers, eyewear and rooms without the services that would refresh them.
-    room_standings_refresh(locations=Location.objects.values_list("pk", flat=True))
+    with room_standings_batch():
+        hazards = hazard_results_refresh(
+            emissions=Emission.objects.select_related("laser").prefetch_related("hazard_results"), only_stale=True)
+        # The loader writes lasers, eyewear and rooms without the services that would refresh them.
+        room_standings_refresh(locations=Location.objects.values_list("pk", flat=True))
     counts = {
         "locations": Location.objects.count(), "lasers": Laser.objects.count(), "emissions": Emission.objects.count(),
         "people": Person.objects.count(), "training records": TrainingRecord.objects.count(),

@@ -65,6 +65,7 @@ from registry.services.lasers import (
     laser_submit,
     laser_update,
 )
+from registry.services.standings import room_standings_batch
 
 Part = Literal["laser", "status", "owner", "place", "emission"]
 
@@ -760,10 +761,12 @@ def laser_import(*, table: Table, by: Person, dry_run: bool = False, create_loca
         return report
     sheet_lasers = run.read_rows()
     with transaction.atomic():
-        for sheet_laser in sheet_lasers:
-            # A laser whose own values are in doubt is not written; its problems are reported already.
-            if not sheet_laser.rows[0].bad & _LASER_SIDE:
-                run.apply(sheet_laser)
+        # Each room's standing once for the whole sheet, not once per laser and emission.
+        with room_standings_batch():
+            for sheet_laser in sheet_lasers:
+                # A laser whose own values are in doubt is not written; its problems are reported already.
+                if not sheet_laser.rows[0].bad & _LASER_SIDE:
+                    run.apply(sheet_laser)
         report.moved_since_dry_run = expected is not None and not report.problems and report.fingerprint() != expected
         if dry_run or report.problems or report.moved_since_dry_run:
             transaction.set_rollback(True)

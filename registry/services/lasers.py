@@ -26,7 +26,7 @@ from registry.services._logging import service_action
 from registry.services.authorizations import authorization_refuse, authorization_revoke
 from registry.services.errors import PrerequisiteError
 from registry.services.hazards import hazard_results_refresh
-from registry.services.standings import room_standings_refresh
+from registry.services.standings import room_standings_batch, room_standings_refresh
 from registry.services._common import (
     lock_for_change,
     lock_for_decision,
@@ -88,10 +88,11 @@ def laser_register(*, by: Person, asset_tag: str, emissions: Sequence[Mapping[st
         if fields.get("owner") not in (None, by):
             raise ValidationError({"owner": "You can only name yourself as the owner; ask the LSO to reassign."})
         fields["owner"] = by
-    laser = validated_save(Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields), by=by)
-    for values in emissions:
-        emission_create(laser=laser, by=by, **values)
-    room_standings_refresh(locations=[laser.location_id])
+    with room_standings_batch():
+        laser = validated_save(Laser(asset_tag=asset_tag, status=LaserStatus.PENDING_REVIEW, **fields), by=by)
+        for values in emissions:
+            emission_create(laser=laser, by=by, **values)
+        room_standings_refresh(locations=[laser.location_id])
     return laser
 
 
@@ -111,13 +112,13 @@ def laser_update(*, laser: Laser, by: Person, **fields: Any) -> Laser:
         laser.status_note = (f"Back to review: {by} lowered the class from {_classes(*before)} to "
                              f"{_classes(laser.labelled_class, laser.effective_class)}; the LSO confirms a lower "
                              "class before the laser is in service again.")
-    validated_save(laser, by=by)
-    if laser.location_id != room_before:
-        # Both rooms, before the results below refresh the new one again: rooms are locked in id order.
-        room_standings_refresh(locations=[room_before, laser.location_id])
-    if {"labelled_class", "embedded_class"} & set(fields):
-        # The class enters the assessment (its plausibility check), so the results follow it.
-        hazard_results_refresh(emissions=laser.emissions.select_related("laser"), by=by)
+    with room_standings_batch():
+        validated_save(laser, by=by)
+        if laser.location_id != room_before:
+            room_standings_refresh(locations=[room_before, laser.location_id])
+        if {"labelled_class", "embedded_class"} & set(fields):
+            # The class enters the assessment (its plausibility check), so the results follow it.
+            hazard_results_refresh(emissions=laser.emissions.select_related("laser"), by=by)
     return laser
 
 

@@ -11,7 +11,9 @@ test's grown register, a test's factories) call it themselves.
 from __future__ import annotations
 
 import datetime
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 
 from django.db import models, transaction
 from django.db.models import Count
@@ -29,6 +31,9 @@ from registry.models import (
     RoomStanding,
 )
 from registry.services._logging import service_action
+
+# The rooms named inside room_standings_batch(), refreshed once on leaving it; None outside.
+_BATCH: ContextVar[set[int] | None] = ContextVar("room_standings_batch", default=None)
 
 _STANDING_VALUES = ["lasers", "largest_nohd_m", "largest_nohd_unbounded", "unprotected", "unprotected_od_max",
                     "unprotected_first", "beyond_room", "beyond_room_first", "computed_at"]
@@ -59,6 +64,10 @@ def room_standings_refresh(*, locations: Iterable[int | None]) -> None:
     limit set.
     """
     ids = sorted({room for room in locations if room is not None})
+    batch = _BATCH.get()
+    if batch is not None:
+        batch.update(ids)
+        return
     if not ids:
         return
     rooms = list(Location.objects.select_for_update().filter(pk__in=ids).order_by("pk"))
@@ -67,6 +76,26 @@ def room_standings_refresh(*, locations: Iterable[int | None]) -> None:
                  for room in selectors.room_hazards(locations=rooms, limits=limits, summary=True)]
     RoomStanding.objects.bulk_create(standings, update_conflicts=True, unique_fields=["location", "limits"],
                                      update_fields=_STANDING_VALUES)
+
+
+@contextmanager
+def room_standings_batch() -> Iterator[None]:
+    """Refresh each room's standing once for the whole block, on leaving it (inside the caller's
+    transaction): a refresh asked for inside only names its rooms. For a write of several records
+    of one room (a laser registered with its emissions, a laser moved and reassessed, an import),
+    where each record's refresh would recompute the whole room again. A block inside another
+    leaves the refresh to the outer one; an exception leaving the block refreshes nothing (its
+    transaction is rolled back)."""
+    if _BATCH.get() is not None:
+        yield
+        return
+    rooms: set[int] = set()
+    token = _BATCH.set(rooms)
+    try:
+        yield
+    finally:
+        _BATCH.reset(token)
+    room_standings_refresh(locations=rooms)
 
 
 def room_standings_fill_missing() -> None:

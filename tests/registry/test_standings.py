@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime
 import io
 import threading
+from unittest import mock
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -22,7 +23,7 @@ from hazards.limits import LIMIT_SETS
 from registry import selectors, services
 from registry.apps import fill_missing_standings
 from registry.models import Eyewear, Laser, Location, RoomStanding
-from registry.services.standings import room_standings_refresh
+from registry.services.standings import room_standings_batch, room_standings_refresh
 from tests import factories
 
 pytestmark = pytest.mark.django_db
@@ -152,6 +153,34 @@ def test_every_api_change_is_in_the_standing_at_once(campus: Campus) -> None:
     campus.post(f"/api/v1/lasers/{campus.weak.pk}/status/", {"status": "disposed", "note": "Sold."})
     assert campus.standing(campus.lab).lasers == 0
     assert_standings_current()
+
+
+def test_a_laser_registered_with_several_emissions_refreshes_its_room_once(campus: Campus) -> None:
+    """Each emission's assessment asks for the room's refresh; the registration computes the room once
+    (one room_hazards call per limit set), and the standing counts every emission."""
+    beam = {"temporal_mode": "cw", "beam_diameter_m": "2 mm", "divergence_rad": "1 mrad"}
+    with mock.patch.object(selectors, "room_hazards", wraps=selectors.room_hazards) as computed:
+        services.laser_register(by=campus.owner, asset_tag="STD-0003", laser_type="solid_state",
+                                labelled_class="4", location=campus.lab,
+                                emissions=[{**beam, "wavelength_m": f"{nm} nm", "average_power_W": "1 W"}
+                                           for nm in (532, 1064, 808)])
+    assert computed.call_count == len(LIMIT_SETS)
+    assert_standings_current()
+    assert campus.standing(campus.lab).lasers == 3
+
+
+def test_a_failed_block_refreshes_nothing_and_a_nested_one_leaves_it_to_the_outer(campus: Campus) -> None:
+    with mock.patch.object(selectors, "room_hazards", wraps=selectors.room_hazards) as computed:
+        with pytest.raises(RuntimeError), room_standings_batch():
+            room_standings_refresh(locations=[campus.lab.pk])
+            raise RuntimeError("the write failed")
+        assert computed.call_count == 0
+        with room_standings_batch():
+            with room_standings_batch():
+                room_standings_refresh(locations=[campus.lab.pk])
+            assert computed.call_count == 0
+            room_standings_refresh(locations=[campus.hall.pk])
+        assert computed.call_count == len(LIMIT_SETS)
 
 
 def test_a_description_edit_leaves_the_standings_alone(campus: Campus) -> None:
