@@ -527,15 +527,9 @@ class IncidentAdmin(RetainedAdmin):
     readonly_fields = ["status", "closed_at", "retired_at", "retirement_reason"]
 
 
-@admin.register(SentReminder)
-class SentReminderAdmin(admin.ModelAdmin):
-    """What send_reminders has sent: a log, so it is read here and written only by the command."""
-
-    list_display = ["sent_on", "kind", "recipient", "address", "subject"]
-    list_filter = ["kind", "sent_on"]
-    search_fields = ["recipient__user__username", "address", "subject"]
-    list_select_related = ["recipient__user"]
-    date_hierarchy = "sent_on"
+class WrittenByTheRegisterAdmin(admin.ModelAdmin):
+    """Records the register writes itself (a log, a stored standing): shown to read, never added,
+    changed or deleted here, and without history of their own."""
 
     def has_add_permission(self, request: HttpRequest) -> bool:
         return False
@@ -547,8 +541,19 @@ class SentReminderAdmin(admin.ModelAdmin):
         return False
 
 
+@admin.register(SentReminder)
+class SentReminderAdmin(WrittenByTheRegisterAdmin):
+    """What send_reminders has sent: a log, so it is read here and written only by the command."""
+
+    list_display = ["sent_on", "kind", "recipient", "address", "subject"]
+    list_filter = ["kind", "sent_on"]
+    search_fields = ["recipient__user__username", "address", "subject"]
+    list_select_related = ["recipient__user"]
+    date_hierarchy = "sent_on"
+
+
 @admin.register(RoomStanding)
-class RoomStandingAdmin(admin.ModelAdmin):
+class RoomStandingAdmin(WrittenByTheRegisterAdmin):
     """Each room's stored standing, to read: the register writes it whenever what it is made from
     changes (services.standings), so it has no history and no edit."""
 
@@ -567,15 +572,6 @@ class RoomStandingAdmin(admin.ModelAdmin):
     @admin.display(description=_("highest OD required without adequate eyewear"))
     def unprotected_od(self, standing: RoomStanding) -> str:
         return "-" if standing.unprotected_od_max is None else hazard_figures.optical_density(standing.unprotected_od_max)
-
-    def has_add_permission(self, request: HttpRequest) -> bool:
-        return False
-
-    def has_change_permission(self, request: HttpRequest, obj: Any = None) -> bool:
-        return False
-
-    def has_delete_permission(self, request: HttpRequest, obj: Any = None) -> bool:
-        return False
 
 
 # The pages link here as the "Back office"; the admin says so in its own header.
