@@ -6,7 +6,6 @@ from typing import Any
 from django.contrib import messages
 from django.core.exceptions import ValidationError
 from django.db import transaction
-from django.db.models import Exists, OuterRef
 from django.http import HttpRequest, HttpResponse, QueryDict
 from django.shortcuts import get_object_or_404, redirect, render
 
@@ -16,7 +15,7 @@ from registry.charts import eye_mpe_chart, hazard_distance_chart
 from registry.exports import XLSX_CONTENT_TYPE, register_dataset, register_xlsx
 from registry.filters import LaserFilter
 from registry.forms import EmissionFormSet, LaserRegistrationForm, add_service_errors
-from registry.models import Emission, Laser, LaserClass, LaserStatus, Location, Person
+from registry.models import Emission, Laser, LaserClass, LaserStatus, Location
 from registry.pagination import KeysFirstPaginator
 from registry.services import laser_register, laser_submit
 from registry.services.previews import laser_registration_preview
@@ -55,9 +54,7 @@ def register(request: PageRequest) -> HttpResponse:
         "ordering": request.GET.get("ordering", "asset_tag"), "sort_query": _without(query, "ordering"),
         "classes": LaserClass.choices, "statuses": LaserStatus.choices,
         "rooms": rooms, "buildings": sorted({room.building for room in rooms}),
-        # Whoever owns a laser: a semi-join stops at each person's first laser, where joining every
-        # laser and removing the duplicates read the whole register on every page.
-        "owners": Person.objects.select_related("user").filter(Exists(Laser.objects.filter(owner=OuterRef("pk")))),
+        "owners": selectors.laser_owners(),
         "selected": {name: request.GET.getlist(name) for name in ("labelled_class", "status")},
         "can_import": permissions.LASERS.allows(request.person, "import"),
     })
